@@ -7,13 +7,13 @@ import { EMPTY_FILTER, MIGRATIONS_DIR, PRISMA_DIR, SCHEMA_PATH, loadMigrationLis
 /** Applies every pending migration in prisma/migrations; returns the names applied. */
 export async function applyPendingMigrations(url = databaseUrl()): Promise<string[]> {
   await mkdir(path.dirname(databaseFile(url)), { recursive: true });
-  const engine = await openSchemaEngine(url);
+  const { engine, close } = await openSchemaEngine(url);
   try {
     const migrationsList = await loadMigrationList();
     const result = await engine.applyMigrations({ migrationsList, filters: EMPTY_FILTER });
     return result.appliedMigrationNames;
   } finally {
-    engine.free();
+    await close();
   }
 }
 
@@ -26,7 +26,7 @@ export async function schemaDriftSql(schema?: string, migrationsDir = MIGRATIONS
   const datamodel = schema ?? (await readFile(SCHEMA_PATH, "utf8"));
   const scratch = await mkdtemp(path.join(tmpdir(), "linemix-drift-"));
   const url = `file:${path.join(scratch, "scratch.db")}`;
-  const engine = await openSchemaEngine(url, datamodel);
+  const { engine, close } = await openSchemaEngine(url, datamodel);
   try {
     const migrationsList = await loadMigrationList(migrationsDir);
     await engine.applyMigrations({ migrationsList, filters: EMPTY_FILTER });
@@ -39,7 +39,7 @@ export async function schemaDriftSql(schema?: string, migrationsDir = MIGRATIONS
     });
     return normaliseDiff(result.stdout ?? "");
   } finally {
-    engine.free();
+    await close();
     await rm(scratch, { recursive: true, force: true });
   }
 }

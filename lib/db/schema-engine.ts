@@ -2,7 +2,11 @@ import { readFile, readdir } from "node:fs/promises";
 import { createRequire } from "node:module";
 import path from "node:path";
 import { PrismaBetterSqlite3 } from "@prisma/adapter-better-sqlite3";
-import { bindMigrationAwareSqlAdapterFactory } from "@prisma/driver-adapter-utils";
+import {
+  bindMigrationAwareSqlAdapterFactory,
+  type SqlDriverAdapter,
+  type SqlMigrationAwareDriverAdapterFactory,
+} from "@prisma/driver-adapter-utils";
 import type {
   MigrationList,
   SchemaEngine,
@@ -43,14 +47,41 @@ async function loadGlue(): Promise<Glue> {
   return glue;
 }
 
-/** Opens the schema engine on a SQLite file URL (`file:...`). Call `free()` when done. */
-export async function openSchemaEngine(url: string, schema?: string): Promise<SchemaEngine> {
+/** A schema engine and a close() that also releases the SQLite connections it opened. */
+export type OpenEngine = { engine: SchemaEngine; close(): Promise<void> };
+
+/**
+ * Opens the schema engine on a SQLite file URL (`file:...`). The engine does not close
+ * its connections when freed, and an open connection keeps a lock that blocks the
+ * app's own `journal_mode = WAL` switch, so every adapter it opens is tracked and
+ * disposed by close().
+ */
+export async function openSchemaEngine(url: string, schema?: string): Promise<OpenEngine> {
   gluePromise ??= loadGlue();
   const glue = await gluePromise;
   const datamodel = schema ?? (await readFile(SCHEMA_PATH, "utf8"));
-  const adapter = bindMigrationAwareSqlAdapterFactory(new PrismaBetterSqlite3({ url }));
+  const factory = new PrismaBetterSqlite3({ url });
+  const opened: SqlDriverAdapter[] = [];
+  const tracking: SqlMigrationAwareDriverAdapterFactory = {
+    provider: factory.provider,
+    adapterName: factory.adapterName,
+    connect: async () => remember(await factory.connect()),
+    connectToShadowDb: async () => remember(await factory.connectToShadowDb()),
+  };
+  function remember(adapter: SqlDriverAdapter): SqlDriverAdapter {
+    opened.push(adapter);
+    return adapter;
+  }
+  const adapter = bindMigrationAwareSqlAdapterFactory(tracking);
   const log = () => {};
-  return glue.SchemaEngine.new({ datamodels: [[SCHEMA_PATH, datamodel]] }, log, adapter);
+  const engine = await glue.SchemaEngine.new({ datamodels: [[SCHEMA_PATH, datamodel]] }, log, adapter);
+  return {
+    engine,
+    async close() {
+      engine.free();
+      await Promise.all(opened.splice(0).map((a) => a.dispose()));
+    },
+  };
 }
 
 /** Reads prisma/migrations the way the Prisma CLI does, for the engine's migration commands. */
