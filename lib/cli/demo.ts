@@ -1,7 +1,9 @@
 // npm run demo : migrate, seed the invented demo plant when the database is empty,
 // build the app, and serve it on PORT (default 3000).
 //   --no-build   serve the existing build (the browser tests build once beforehand)
-import { existsSync } from "node:fs";
+//   --fresh      delete the database at DATABASE_URL first (test runners only)
+import { existsSync, rmSync } from "node:fs";
+import path from "node:path";
 import { openSqlite } from "../db/client";
 import { applyPendingMigrations } from "../db/migrate";
 import { databaseFile, databaseUrl } from "../db/url";
@@ -12,6 +14,13 @@ import { seedDemoExtras } from "../demo/extras";
 import { port, runNext } from "./serve";
 
 const skipBuild = process.argv.includes("--no-build");
+const fresh = process.argv.includes("--fresh");
+const distDir = process.env.LINEMIX_DIST_DIR ?? ".next";
+
+if (fresh) {
+  // --fresh (test runners): start from an empty database at DATABASE_URL.
+  for (const suffix of ["", "-wal", "-shm"]) rmSync(databaseFile() + suffix, { force: true });
+}
 
 await applyPendingMigrations();
 const sqlite = openSqlite(databaseUrl());
@@ -25,7 +34,7 @@ extras = await seedDemoExtras(sqlite);
 sqlite.close();
 console.log(`database: ${databaseFile()}`);
 
-if (!skipBuild || !existsSync(".next/BUILD_ID")) {
+if (!skipBuild || !existsSync(path.join(distDir, "BUILD_ID"))) {
   const code = await runNext(["build"]);
   if (code !== 0) process.exit(code);
 }

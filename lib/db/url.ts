@@ -4,7 +4,7 @@ import path from "node:path";
 export function databaseUrl(): string {
   const configured = process.env.DATABASE_URL?.trim();
   if (configured) return configured;
-  return `file:${path.resolve(process.cwd(), "data", "linemix.db")}`;
+  return `file:${path.resolve(/* turbopackIgnore: true */ process.cwd(), "data", "linemix.db")}`;
 }
 
 /** The file path inside a `file:` URL (relative paths resolve against the working folder). */
@@ -13,5 +13,5 @@ export function databaseFile(url = databaseUrl()): string {
     throw new Error(`DATABASE_URL must be a SQLite file URL (file:...), got "${url}".`);
   }
   const raw = url.slice("file:".length).split("?")[0];
-  return path.resolve(process.cwd(), raw);
+  return path.resolve(/* turbopackIgnore: true */ process.cwd(), raw);
 }
