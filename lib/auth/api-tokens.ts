@@ -1,0 +1,62 @@
+import { db } from "@/lib/db/client";
+import { API_SCOPES, isApiScope, type ApiScope } from "./roles";
+import { randomToken, sha256 } from "./tokens-crypto";
+
+/**
+ * API tokens for machines (line PLC gateways, reporting jobs). The secret is `lmx_` and
+ * 256 random bits (base64url); it is shown once at creation, and only its SHA-256 is kept.
+ * ApiToken.prefix keeps the first characters so people can tell tokens apart.
+ */
+
+export const TOKEN_PREFIX = "lmx_";
+
+export type TokenPrincipal = { kind: "token"; tokenId: number; name: string; scopes: ApiScope[] };
+
+export function parseScopes(stored: string): ApiScope[] {
+  return stored
+    .split(",")
+    .map((s) => s.trim())
+    .filter(isApiScope);
+}
+
+export async function createApiToken(
+  name: string,
+  scopes: ApiScope[],
+  createdById: number,
+  now = new Date(),
+): Promise<{ id: number; token: string; prefix: string }> {
+  const unique = [...new Set(scopes)].filter(isApiScope).sort((a, b) => API_SCOPES.indexOf(a) - API_SCOPES.indexOf(b));
+  if (unique.length === 0) throw new Error("A token needs at least one scope.");
+  const token = TOKEN_PREFIX + randomToken();
+  const prefix = token.slice(0, TOKEN_PREFIX.length + 6);
+  const row = await db().apiToken.create({
+    data: { name, prefix, tokenHash: sha256(token), scopes: unique.join(","), createdById, createdAt: now },
+  });
+  return { id: row.id, token, prefix };
+}
+
+export type TokenCheck =
+  | { ok: true; principal: TokenPrincipal }
+  | { ok: false; status: 401 | 403; error: string };
+
+/** Checks a bearer token and its scope; records the last use (at most once a minute). */
+export async function verifyApiToken(token: string, scope: ApiScope, now = new Date()): Promise<TokenCheck> {
+  if (!token.startsWith(TOKEN_PREFIX) || token.length > 200) {
+    return { ok: false, status: 401, error: "Invalid or revoked API token." };
+  }
+  const row = await db().apiToken.findUnique({ where: { tokenHash: sha256(token) } });
+  if (!row || row.revokedAt) return { ok: false, status: 401, error: "Invalid or revoked API token." };
+  const scopes = parseScopes(row.scopes);
+  if (!row.lastUsedAt || now.getTime() - row.lastUsedAt.getTime() >= 60_000) {
+    await db().apiToken.update({ where: { id: row.id }, data: { lastUsedAt: now } });
+  }
+  if (!scopes.includes(scope)) {
+    return { ok: false, status: 403, error: `This token lacks the scope ${scope}.` };
+  }
+  return { ok: true, principal: { kind: "token", tokenId: row.id, name: row.name, scopes } };
+}
+
+export async function revokeApiToken(id: number, now = new Date()): Promise<boolean> {
+  const result = await db().apiToken.updateMany({ where: { id, revokedAt: null }, data: { revokedAt: now } });
+  return result.count > 0;
+}
