@@ -4,7 +4,7 @@
  * end), never from the clock.
  *
  * @example
- * seedFrom("line|2026-01-05|2026-01-11"); // a fixed number in [0, 2³²)
+ * seedFrom("line|2026-01-05|2026-01-11"); // 1929287798
  */
 export function seedFrom(text: string): number {
   let h = 0x811c9dc5;

@@ -1,0 +1,83 @@
+import type { Cube } from "./cube";
+import { isoDate } from "./dates";
+import { finalizeScan, type FinalizeOptions } from "./finalize";
+import { SlidingSum } from "./sliding-sum";
+import type { ScanResult } from "./types";
+import { testWindow, type WindowState, type WindowTestOptions } from "./window-test";
+
+/**
+ * A scan kept in a form that can be partly redone: the daily cube, the window plan and
+ * every window's unadjusted result. The one-shot scans build it and finish it at once;
+ * the service keeps it and, when late data arrive, patches the cube, retests only the
+ * windows that cover the changed days and re-runs the cheap across-window pass.
+ */
+export interface PreparedScan {
+  /** "groups": rows are the cube's groups; "history": current window vs the baseline before it. */
+  kind: "groups" | "history";
+  cube: Cube;
+  starts: Int32Array;
+  windowDays: number;
+  /** Length of the baseline before each window (history scans), else 0. */
+  baselineDays: number;
+  test: WindowTestOptions;
+  finalize: FinalizeOptions;
+  states: WindowState[];
+}
+
+export const HISTORY_ROWS = ["current", "baseline"];
+
+/** Tests every window of the plan. */
+export function prepareScan(scan: Omit<PreparedScan, "states">): PreparedScan {
+  const prepared: PreparedScan = { ...scan, states: [] };
+  prepared.states = testRange(prepared, 0, scan.starts.length);
+  return prepared;
+}
+
+/** Retests windows lo … hi − 1 in place (after the cube changed under them). */
+export function retestWindows(scan: PreparedScan, lo: number, hi: number): void {
+  const fresh = testRange(scan, lo, hi);
+  for (let k = lo; k < hi; k++) scan.states[k] = fresh[k - lo];
+}
+
+/** The across-window pass (adjustment, flags, drivers, episodes) over the current states. */
+export function finishScan(scan: PreparedScan): ScanResult {
+  return finalizeScan(scan.states, scan.finalize);
+}
+
+/** The rows × categories sums of every window in lo … hi − 1, moved incrementally; `visit` must not keep `sums`. */
+export function forEachWindowTable(
+  scan: Pick<PreparedScan, "kind" | "cube" | "starts" | "windowDays" | "baselineDays">,
+  lo: number,
+  hi: number,
+  visit: (k: number, sums: Float64Array, rows: string[]) => void,
+): void {
+  const current = new SlidingSum(scan.cube, scan.windowDays);
+  if (scan.kind === "groups") {
+    for (let k = lo; k < hi; k++) {
+      current.moveTo(scan.starts[k]);
+      visit(k, current.sums, scan.cube.groups);
+    }
+    return;
+  }
+  // History: the cube has one group (the line); stack [current; baseline] into a 2-row table.
+  const baseline = new SlidingSum(scan.cube, scan.baselineDays);
+  const columns = scan.cube.categories.length;
+  const table = new Float64Array(2 * columns);
+  for (let k = lo; k < hi; k++) {
+    current.moveTo(scan.starts[k]);
+    baseline.moveTo(scan.starts[k] - scan.baselineDays);
+    table.set(current.sums, 0);
+    table.set(baseline.sums, columns);
+    visit(k, table, HISTORY_ROWS);
+  }
+}
+
+function testRange(scan: PreparedScan, lo: number, hi: number): WindowState[] {
+  const out: WindowState[] = [];
+  const categories = scan.cube.categories;
+  forEachWindowTable(scan, lo, hi, (k, sums, rows) => {
+    const start = scan.starts[k];
+    out.push(testWindow(sums, rows, categories, isoDate(start), isoDate(start + scan.windowDays - 1), scan.test));
+  });
+  return out;
+}
