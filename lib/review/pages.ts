@@ -1,0 +1,120 @@
+import { getComparison, listComparisons, type ComparisonRecord } from "@/lib/db/comparisons";
+import { loadMasterData } from "@/lib/db/plant";
+import { localToday } from "@/lib/dates";
+import { formatDay } from "./format";
+import { namesFrom, type Names } from "./names";
+import { shapeOverview } from "./overview";
+import type { ReadingRateSignal } from "./reading";
+import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable, type RateSeries } from "./source";
+import { shapeTimeline } from "./timeline";
+import { lastCompleteWeek, parseIsoWeek, shapeWeek, shiftWeek, type IsoWeekRef, type WeekCounts } from "./week";
+import { shapeWindow } from "./window";
+
+/** Server-side loaders of the review pages: read, scan (cached), shape. */
+
+async function names(): Promise<Names> {
+  return namesFrom(await loadMasterData());
+}
+
+function rateSignalsAt(rates: RateSeries | null, index: number, comparison: ComparisonRecord, n: Names): ReadingRateSignal[] {
+  if (!rates) return [];
+  const out: ReadingRateSignal[] = [];
+  for (const g of rates.groups) {
+    const p = rates.byGroup[g]?.[index];
+    if (!p || !p.signal || p.u === null || p.upper === null || p.lower === null) continue;
+    out.push({
+      groupName: comparison.compare === "shift" ? n.shift(g) : n.line(g),
+      rate: p.u,
+      upperLimit: p.upper,
+      lowerLimit: p.lower,
+      direction: p.signal,
+    });
+  }
+  return out;
+}
+
+export async function overviewData() {
+  const [comparisons, n] = await Promise.all([listComparisons(), names()]);
+  const inputs = comparisons.map((c) => {
+    const run = runComparison(c);
+    const rates = rateSeries(run);
+    const signals = rateSignalsAt(rates, run.windows.length - 1, c, n).map((s) => s.groupName);
+    return { comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals };
+  });
+  const last = lastDataDate();
+  return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null };
+}
+
+export async function timelineData(code: string) {
+  const c = await getComparison(code);
+  if (!c) return null;
+  const n = await names();
+  const run = runComparison(c);
+  const rates = rateSeries(run);
+  const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates);
+  const flagged = run.windows.filter((w) => w.flagged);
+  const recent = run.windows.slice(-14).reverse();
+  return { comparison: c, timeline, episodes: run.episodes, flagged, recent, windows: run.windows, names: n };
+}
+
+export async function windowData(code: string, start: string) {
+  const c = await getComparison(code);
+  if (!c) return null;
+  const n = await names();
+  const run = runComparison(c);
+  const index = run.windows.findIndex((w) => w.start === start);
+  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null };
+  const w = run.windows[index];
+  const neighbours = {
+    previous: index > 0 ? run.windows[index - 1].start : null,
+    next: index < run.windows.length - 1 ? run.windows[index + 1].start : null,
+  };
+  const episode = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
+  const table = windowTable(c, start);
+  if (!table) return { comparison: c, view: null, window: w, neighbours, episode };
+  const signals = rateSignalsAt(rateSeries(run), index, c, n);
+  return { comparison: c, view: shapeWindow(table, n, signals), window: w, neighbours, episode };
+}
+
+function weekCounts(groupBy: "line" | "shift", week: IsoWeekRef, lines?: string[]): WeekCounts {
+  const raw = countsBetween(groupBy, week.start, week.end, { lines: lines ?? null });
+  return {
+    rows: raw.rows,
+    categories: raw.categories,
+    counts: raw.rows.map((r) => raw.categories.map((k) => raw.counts.get(r)?.get(k) ?? 0)),
+    units: raw.rows.map((r) => raw.units.get(r) ?? null),
+  };
+}
+
+export async function weekData(label: string | undefined) {
+  const today = localToday();
+  const fallback = lastCompleteWeek(today);
+  const parsed = label ? parseIsoWeek(label) : null;
+  const week = parsed ?? fallback;
+  const [n, plant, comparisons] = await Promise.all([names(), loadMasterData(), listComparisons()]);
+  const previous = shiftWeek(week, -1);
+  const lineCodes = plant.lines.filter((l) => l.active).map((l) => l.code);
+  const alpha = comparisons.find((c) => c.code === "lines")?.alpha ?? 0.05;
+  const review = shapeWeek(
+    {
+      week,
+      alpha,
+      current: weekCounts("line", week),
+      previous: weekCounts("line", previous),
+      shifts: lineCodes.map((line) => ({
+        line,
+        current: weekCounts("shift", week, [line]),
+        previous: weekCounts("shift", previous, [line]),
+      })),
+    },
+    n,
+  );
+  return {
+    review,
+    invalidLabel: label !== undefined && parsed === null ? label : null,
+    defaultWeek: fallback.label,
+    next: shiftWeek(week, 1),
+    isFuture: week.start > today,
+    lastDate: lastDataDate(),
+  };
+}
