@@ -2,7 +2,7 @@ import { db } from "./client";
 import type { Prisma } from "./generated/client";
 import { OPEN_STATUSES, isEpisodeStatus, type EpisodeStatus } from "@/lib/episodes/status";
 import type { EpisodeDriver } from "@/lib/monitor/types";
-import type { Actor, ComparisonConfig, ComparisonInfo, EpisodeAnalysis } from "@/lib/episodes/types";
+import type { Actor, EpisodeAnalysis } from "@/lib/episodes/types";
 
 /**
  * Data access for flagged-period records (Episode, EpisodeNote, EpisodeSnapshot) and
@@ -207,31 +207,6 @@ export async function comparisonsWithEpisodes(): Promise<{ code: string; name: s
     orderBy: [{ displayOrder: "asc" }, { code: "asc" }],
     select: { code: true, name: true },
   });
-}
-
-function codes(text: string | null): string[] | null {
-  const value = parseJson<unknown>(text, null);
-  return Array.isArray(value) ? value.map(String) : null;
-}
-
-/** A saved comparison's identity and scan configuration, by id or code. */
-export async function comparisonInfo(idOrCode: number | string): Promise<ComparisonInfo | null> {
-  const row = await db().comparison.findUnique({ where: typeof idOrCode === "number" ? { id: idOrCode } : { code: idOrCode } });
-  if (!row) return null;
-  const config: ComparisonConfig = {
-    compare: row.compare,
-    lines: codes(row.lines),
-    shifts: codes(row.shifts),
-    categories: codes(row.categories),
-    windowDays: row.windowDays,
-    stepDays: row.stepDays,
-    alpha: row.alpha,
-    adjust: row.adjust,
-    minEffect: row.minEffect,
-    sparse: row.sparse,
-    historyWeeks: row.historyWeeks,
-  };
-  return { id: row.id, code: row.code, name: row.name, compare: row.compare, config };
 }
 
 type Tx = Prisma.TransactionClient;

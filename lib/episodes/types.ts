@@ -52,6 +52,8 @@ export interface WindowAnalysis {
   cramersVCorrected: number | null;
   flagged: boolean;
   drivers: Driver[];
+  /** Critical |adjusted residual| for naming a driver cell in this table (null when not testable). */
+  critical: number | null;
   pooled: PooledColumns | null;
   expectedCounts: ExpectedSummary | null;
   monteCarlo: { replicates: number; seed: number; standardError: number } | null;
