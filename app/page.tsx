@@ -1,29 +1,155 @@
 import Link from "next/link";
-import { historySpan, loadMasterData } from "@/lib/db/plant";
+import { redirect } from "next/navigation";
+import { currentUser, requirePageUser } from "@/lib/auth/guard";
+import { overviewData } from "@/lib/review/pages";
+import { formatDay, formatP, formatRatio, formatSigned, formatV } from "@/lib/review/format";
+import type { OverviewRow } from "@/lib/review/overview";
+import { StateBadge } from "./components/review/state-badge";
+import "./components/review/review.css";
 
 export const dynamic = "force-dynamic";
 
 export default async function OverviewPage() {
-  const [plant, span] = await Promise.all([loadMasterData(), historySpan()]);
+  // Operators (and badge sessions) work on the floor: send them to their page instead of a refusal.
+  const me = await currentUser();
+  if (me && (me.role === "operator" || me.sessionKind === "badge")) redirect("/entry");
+  await requirePageUser("engineer", { path: "/" });
+  const data = await overviewData();
+  const flagged = data.rows.filter((r) => r.state === "flagged");
   return (
     <>
-      <h1>Overview</h1>
-      <p className="lede">
-        {plant.lines.length} lines, {plant.shifts.length} shifts and {plant.categories.length} defect categories.
-        History from {span.first ?? "—"} to {span.last ?? "—"}: {span.defects.toLocaleString("en")} defects in{" "}
-        {span.entries.toLocaleString("en")} tally entries.
-      </p>
-      <section className="grid" aria-label="Lines">
-        {plant.lines.map((line) => (
-          <div className="card" key={line.id}>
-            <h2>{line.name}</h2>
-            <p className="muted mono">{line.code}</p>
-          </div>
-        ))}
+      <div className="page-head">
+        <h1>Overview</h1>
+        <p className="lede">
+          Every saved comparison, as of its latest window
+          {data.lastDateText ? <> (data up to {data.lastDateText})</> : null}:{" "}
+          <strong>{data.counts.flagged} flagged</strong>, {data.counts.quiet} quiet, {data.counts.untestable} not testable.
+        </p>
+      </div>
+
+      {flagged.length ? (
+        <section aria-labelledby="open-heading">
+          <h2 id="open-heading">Flagged now</h2>
+          <ul className="wall-grid" role="list">
+            {flagged.map((r) => (
+              <li key={r.code} className="card wall-card" data-testid="flagged-card">
+                <StateBadge state="flagged" large />
+                <h3>
+                  <Link href={`/comparisons/${encodeURIComponent(r.code)}`}>{r.name}</Link>
+                </h3>
+                <p className="wall-since">
+                  {r.flaggedDays} {r.flaggedDays === 1 ? "day" : "days"}, since {r.flaggedSince ? formatDay(r.flaggedSince) : "—"}
+                </p>
+                {r.topDriver ? (
+                  <p>
+                    Strongest cell: <strong>{r.topDriver.rowName}</strong> × <strong>{r.topDriver.categoryName}</strong>{" "}
+                    <span className="num">
+                      ({formatRatio(r.topDriver.ratio)}, {formatSigned(r.topDriver.adjustedResidual)})
+                    </span>
+                  </p>
+                ) : null}
+                <p className="wall-links">
+                  {r.latest ? <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.latest.start}`}>Latest window</Link> : null}
+                  {r.openEpisode ? (
+                    <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.openEpisode.peakStart}`}>Strongest window of the episode</Link>
+                  ) : null}
+                  <Link href={`/episodes?comparison=${encodeURIComponent(r.code)}`}>Flagged-period record</Link>
+                </p>
+              </li>
+            ))}
+          </ul>
+        </section>
+      ) : (
+        <p className="card quiet-note">
+          <StateBadge state="quiet" /> No comparison is flagged in its latest window.
+        </p>
+      )}
+
+      <section aria-labelledby="all-heading">
+        <h2 id="all-heading">All comparisons</h2>
+        <div className="table-scroll">
+          <table className="data overview-table">
+            <thead>
+              <tr>
+                <th scope="col">State</th>
+                <th scope="col">Comparison</th>
+                <th scope="col">Latest window</th>
+                <th scope="col" className="num">
+                  Adj. p
+                </th>
+                <th scope="col" className="num">
+                  V
+                </th>
+                <th scope="col">Flagged for</th>
+                <th scope="col">Strongest cell</th>
+                <th scope="col">Defect rate</th>
+                <th scope="col" className="num">
+                  Episodes
+                </th>
+              </tr>
+            </thead>
+            <tbody>
+              {data.rows.map((r) => (
+                <OverviewTableRow key={r.code} row={r} />
+              ))}
+            </tbody>
+          </table>
+        </div>
+        <p className="muted">
+          Adj. p: the window&apos;s p-value adjusted across all windows of the comparison. V: bias-corrected Cramér&apos;s V, 0 for
+          identical mixes. <Link href="/week">Weekly review</Link>
+        </p>
       </section>
-      <p>
-        <Link href="/entry">Record a shift&apos;s tallies</Link>
-      </p>
     </>
+  );
+}
+
+function OverviewTableRow({ row: r }: { row: OverviewRow }) {
+  const href = `/comparisons/${encodeURIComponent(r.code)}`;
+  return (
+    <tr data-comparison={r.code} data-state={r.state}>
+      <td>
+        <StateBadge state={r.state} />
+      </td>
+      <td>
+        <Link href={href}>{r.name}</Link>
+        <div className="muted small">{r.kind}</div>
+      </td>
+      <td>
+        {r.latest ? (
+          <>
+            <Link href={`${href}/windows/${r.latest.start}`}>{r.latest.range}</Link>
+            {r.latest.reason ? <div className="muted small">{r.latest.reason}</div> : null}
+          </>
+        ) : (
+          <span className="muted">history shorter than one window</span>
+        )}
+      </td>
+      <td className="num">{r.latest ? formatP(r.latest.adjustedPValue) : "—"}</td>
+      <td className="num">{r.latest ? formatV(r.latest.cramersV) : "—"}</td>
+      <td>
+        {r.flaggedDays !== null ? (
+          <>
+            {r.flaggedDays} {r.flaggedDays === 1 ? "day" : "days"}
+          </>
+        ) : r.lastEpisode ? (
+          <span className="muted small">last: {r.lastEpisode.range}</span>
+        ) : (
+          "—"
+        )}
+      </td>
+      <td>
+        {r.topDriver ? (
+          <>
+            {r.topDriver.rowName} × {r.topDriver.categoryName}{" "}
+            <span className="num">({formatSigned(r.topDriver.adjustedResidual)})</span>
+          </>
+        ) : (
+          "—"
+        )}
+      </td>
+      <td>{r.rateSignals.length ? <span className="rate-flag">Rate signal: {r.rateSignals.join(", ")}</span> : <span className="muted">within limits</span>}</td>
+      <td className="num">{r.episodes}</td>
+    </tr>
   );
 }

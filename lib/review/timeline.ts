@@ -56,6 +56,8 @@ export interface TimelineData {
   minEffect: number;
   xMin: number;
   xMax: number;
+  /** x positions of month starts (≤ 13 of them), with their labels. */
+  ticks: { x: number; label: string }[];
   rate: RatePanelGroup[] | null;
   /** Summary for the text alternative. */
   summary: string;
@@ -133,7 +135,32 @@ export function shapeTimeline(
     minEffect: c.minEffect,
     xMin: points.length ? points[0].x : 0,
     xMax: points.length ? points[points.length - 1].x : 1,
+    ticks: monthTicks(points.length ? points[0].end : null, points.length ? points[points.length - 1].end : null),
     rate,
     summary,
   };
+}
+
+const MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"];
+
+/** Month starts between two dates; every second or third month on long spans, so at most 13 ticks. */
+export function monthTicks(first: string | null, last: string | null): { x: number; label: string }[] {
+  if (!first || !last) return [];
+  const out: { x: number; label: string }[] = [];
+  let y = Number(first.slice(0, 4));
+  let m = Number(first.slice(5, 7));
+  // The first tick is the first month start on or after `first`.
+  if (first.slice(8, 10) !== "01") m++;
+  for (;;) {
+    if (m > 12) {
+      m = 1;
+      y++;
+    }
+    const iso = `${y}-${String(m).padStart(2, "0")}-01`;
+    if (iso > last) break;
+    out.push({ x: dayNumberOf(iso), label: m === 1 ? `${MONTHS[0]} ${y}` : MONTHS[m - 1] });
+    m++;
+  }
+  const every = Math.ceil(out.length / 13);
+  return every > 1 ? out.filter((_, k) => k % every === 0) : out;
 }

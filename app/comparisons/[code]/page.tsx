@@ -1,0 +1,178 @@
+import type { Metadata } from "next";
+import Link from "next/link";
+import { notFound } from "next/navigation";
+import { requirePageUser } from "@/lib/auth/guard";
+import { formatP, formatRange, formatSigned, formatV } from "@/lib/review/format";
+import { kindLabel } from "@/lib/review/names";
+import { stateOf } from "@/lib/review/overview";
+import { timelineData } from "@/lib/review/pages";
+import type { ScanWindow } from "@/lib/monitor/types";
+import { RateChart } from "../../components/charts/rate-chart";
+import { TimelineChart } from "../../components/charts/timeline-chart";
+import { StateBadge } from "../../components/review/state-badge";
+import { SettingsSummary } from "../../components/review/settings-summary";
+import "../../components/review/review.css";
+
+export const dynamic = "force-dynamic";
+
+type Params = { params: Promise<{ code: string }> };
+
+export async function generateMetadata({ params }: Params): Promise<Metadata> {
+  const { code } = await params;
+  return { title: `Timeline ${decodeURIComponent(code)}` };
+}
+
+export default async function TimelinePage({ params }: Params) {
+  const { code: raw } = await params;
+  const code = decodeURIComponent(raw);
+  await requirePageUser("engineer", { path: `/comparisons/${raw}` });
+  const data = await timelineData(code);
+  if (!data) notFound();
+  const { comparison: c, timeline, episodes, names } = data;
+  const latest = data.windows.at(-1);
+  const base = `/comparisons/${encodeURIComponent(c.code)}`;
+  const rowName = (r: string) => names.row(c.compare, r, c.historyWeeks);
+  return (
+    <>
+      <p className="crumbs">
+        <Link href="/">Overview</Link> / {c.name}
+      </p>
+      <div className="page-head">
+        <h1>{c.name}</h1>
+        <p>
+          <Link href={`${base}/settings`} className="button secondary">
+            Settings
+          </Link>
+        </p>
+      </div>
+      <p className="lede">
+        {kindLabel(c.compare, c.lines, names)}. Now: <StateBadge state={stateOf(latest)} />{" "}
+        {latest ? (
+          <>
+            latest window <Link href={`${base}/windows/${latest.start}`}>{formatRange(latest.start, latest.end)}</Link>, adjusted p{" "}
+            {formatP(latest.adjustedPValue)}, V {formatV(latest.cramersVCorrected)}.
+          </>
+        ) : (
+          "no window yet."
+        )}
+      </p>
+      <SettingsSummary comparison={c} />
+
+      <figure className="chart-card" aria-labelledby="evidence-heading">
+        <h2 id="evidence-heading">Evidence and effect size, window by window</h2>
+        {timeline.points.length ? <TimelineChart code={c.code} data={timeline} /> : <p>No windows yet.</p>}
+        <figcaption>
+          <span className="key-line" aria-hidden="true" /> −log₁₀ of the adjusted p (higher is stronger evidence; p below 10⁻⁵⁰ is drawn at the top) ·{" "}
+          <span className="key-dash" aria-hidden="true" /> the α line: a window above it flags ·{" "}
+          <span className="key-diamond" aria-hidden="true" /> flagged window · <span className="key-band" aria-hidden="true" /> episode. Lower panel:
+          bias-corrected Cramér&apos;s V. Each point sits at the window&apos;s last day; click one to open it. {timeline.summary}
+        </figcaption>
+      </figure>
+
+      {timeline.rate ? (
+        <figure className="chart-card" aria-labelledby="rate-heading">
+          <h2 id="rate-heading">Defects per unit, group by group</h2>
+          <RateChart groups={timeline.rate} ticks={timeline.ticks} xMin={timeline.xMin} xMax={timeline.xMax} />
+          <figcaption>
+            The mix test above says nothing about the rate. Here each group&apos;s defects per unit over the same windows, with u-chart limits
+            around its own average rate. Windows outside the limits:{" "}
+            {timeline.rate.map((g) => `${g.name} ${g.signals}`).join(", ")}.
+          </figcaption>
+        </figure>
+      ) : null}
+
+      <section aria-labelledby="episodes-heading">
+        <h2 id="episodes-heading">Episodes</h2>
+        {episodes.length ? (
+          <div className="table-scroll">
+            <table className="data">
+              <thead>
+                <tr>
+                  <th scope="col">Period</th>
+                  <th scope="col" className="num">Flagged windows</th>
+                  <th scope="col">Strongest window</th>
+                  <th scope="col" className="num">Adj. p</th>
+                  <th scope="col">Driving cells</th>
+                  <th scope="col">Record</th>
+                </tr>
+              </thead>
+              <tbody>
+                {episodes.map((e) => (
+                  <tr key={e.start} data-episode={e.start}>
+                    <td>{formatRange(e.start, e.end)}</td>
+                    <td className="num">{e.windows}</td>
+                    <td>
+                      <Link href={`${base}/windows/${e.peak.start}`}>{formatRange(e.peak.start, e.peak.end)}</Link>
+                    </td>
+                    <td className="num">{formatP(e.peak.adjustedPValue)}</td>
+                    <td>
+                      {e.drivers.slice(0, 3).map((d) => (
+                        <div key={`${d.row}|${d.category}`}>
+                          {rowName(d.row)} × {names.category(d.category)} ({formatSigned(d.adjustedResidual)}, in {d.windows} windows)
+                        </div>
+                      ))}
+                    </td>
+                    <td>
+                      <Link href={`/episodes?comparison=${encodeURIComponent(c.code)}`}>Flagged-period record</Link>
+                    </td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          </div>
+        ) : (
+          <p>No episode in the scanned history.</p>
+        )}
+      </section>
+
+      <section aria-labelledby="windows-heading">
+        <h2 id="windows-heading">Windows</h2>
+        <h3>Latest 14</h3>
+        <WindowTable windows={data.recent} base={base} />
+        <details className="all-windows">
+          <summary>All {data.windows.length} windows, newest first</summary>
+          <WindowTable windows={[...data.windows].reverse()} base={base} />
+        </details>
+      </section>
+    </>
+  );
+}
+
+function WindowTable({ windows, base }: { windows: ScanWindow[]; base: string }) {
+  return (
+    <div className="table-scroll">
+      <table className="data">
+        <thead>
+          <tr>
+            <th scope="col">Window</th>
+            <th scope="col">State</th>
+            <th scope="col" className="num">Defects</th>
+            <th scope="col" className="num">X²</th>
+            <th scope="col" className="num">df</th>
+            <th scope="col" className="num">p</th>
+            <th scope="col" className="num">Adj. p</th>
+            <th scope="col" className="num">V</th>
+          </tr>
+        </thead>
+        <tbody>
+          {windows.map((w) => (
+            <tr key={w.start} className={w.flagged ? "row-flagged" : undefined}>
+              <td>
+                <Link href={`${base}/windows/${w.start}`}>{formatRange(w.start, w.end)}</Link>
+              </td>
+              <td>
+                <StateBadge state={stateOf(w)} />
+              </td>
+              <td className="num">{w.n.toLocaleString("en-GB")}</td>
+              <td className="num">{w.chiSquare === null ? "—" : w.chiSquare.toFixed(1)}</td>
+              <td className="num">{w.df ?? "—"}</td>
+              <td className="num">{formatP(w.pValue)}</td>
+              <td className="num">{formatP(w.adjustedPValue)}</td>
+              <td className="num">{formatV(w.cramersVCorrected)}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}

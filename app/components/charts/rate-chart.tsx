@@ -1,0 +1,82 @@
+"use client";
+
+import { useId, useState } from "react";
+import { CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis, type DotItemDotProps, type TooltipContentProps } from "recharts";
+import type { RatePanelGroup } from "@/lib/review/timeline";
+import { CHART } from "./palette";
+
+type Point = RatePanelGroup["points"][number];
+
+/**
+ * Defects per unit of one group per window, with its u-chart centre line and limits
+ * (step lines, since the limits move with the units inspected). Windows outside the
+ * limits are drawn as filled squares. A select picks the group; groups with signals
+ * are listed first.
+ */
+export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGroup[]; ticks: { x: number; label: string }[]; xMin: number; xMax: number }) {
+  const ordered = [...groups].sort((a, b) => b.signals - a.signals);
+  const [code, setCode] = useState(ordered[0]?.code ?? "");
+  const id = useId();
+  const group = groups.find((g) => g.code === code) ?? ordered[0];
+  if (!group) return null;
+  const tickLabel = (x: number) => ticks.find((t) => t.x === x)?.label ?? "";
+  return (
+    <div data-chart="rate">
+      <div className="field inline-field no-print">
+        <label htmlFor={id}>Group</label>
+        <select id={id} value={group.code} onChange={(e) => setCode(e.target.value)}>
+          {ordered.map((g) => (
+            <option key={g.code} value={g.code}>
+              {g.name}
+              {g.signals ? ` — ${g.signals} windows outside limits` : ""}
+            </option>
+          ))}
+        </select>
+      </div>
+      <ComposedChart
+        data={group.points}
+        responsive
+        style={{ width: "100%", height: 220 }}
+        margin={{ top: 10, right: 16, bottom: 4, left: 4 }}
+        title={`Defects per unit, ${group.name}, with u-chart limits`}
+      >
+        <CartesianGrid stroke={CHART.grid} vertical={false} />
+        <XAxis dataKey="x" type="number" domain={[xMin, xMax]} ticks={ticks.map((t) => t.x)} tickFormatter={tickLabel} tick={{ fill: CHART.axis, fontSize: 12 }} allowDataOverflow />
+        <YAxis width={70} tick={{ fill: CHART.axis, fontSize: 12 }} tickFormatter={(v: number) => v.toFixed(4)} domain={["auto", "auto"]} />
+        <Tooltip content={RateTooltip} />
+        <Line dataKey="upper" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Upper limit" />
+        <Line dataKey="lower" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Lower limit" />
+        <Line dataKey="centre" stroke={CHART.limit} strokeWidth={1} dot={false} isAnimationActive={false} name="Centre" />
+        <Line dataKey="u" stroke={CHART.structure} strokeWidth={1.5} dot={SignalDot} isAnimationActive={false} name="Defects per unit" />
+      </ComposedChart>
+      <p className="chart-key">
+        <span className="key-line" aria-hidden="true" /> defects per unit · <span className="key-dash" aria-hidden="true" /> u-chart limits (±3σ) ·{" "}
+        <span className="key-square" aria-hidden="true" /> outside the limits
+      </p>
+    </div>
+  );
+}
+
+function SignalDot(props: DotItemDotProps) {
+  const p = props.payload as Point | undefined;
+  const { cx, cy } = props as unknown as { cx?: number; cy?: number };
+  if (!p || !p.signal || cx === undefined || cy === undefined) return <g key={props.index} />;
+  return <rect key={props.index} x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal={p.signal} />;
+}
+
+function RateTooltip(props: TooltipContentProps) {
+  if (!props.active || !props.payload?.length) return null;
+  const p = props.payload[0]?.payload as Point | undefined;
+  if (!p) return null;
+  const f = (x: number | null) => (x === null ? "—" : x.toFixed(5));
+  return (
+    <div className="chart-tooltip">
+      <strong>Window ending {p.end}</strong>
+      <div>defects per unit {f(p.u)}</div>
+      <div>
+        limits {f(p.lower)} – {f(p.upper)} (centre {f(p.centre)})
+      </div>
+      {p.signal ? <div>{p.signal === "above" ? "Above the upper limit" : "Below the lower limit"}</div> : null}
+    </div>
+  );
+}
