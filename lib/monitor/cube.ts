@@ -36,63 +36,87 @@ export interface BucketSpec {
   toDay?: number;
 }
 
-// Pass 1 output: one entry per kept row, indices in order of first appearance.
+// Pass 1 output: per kept row its day, packed group·2¹⁶ + category, and count, with
+// indices in order of first appearance.
 interface Staged {
   kept: number;
   day: Int32Array;
-  group: Int32Array;
-  category: Int32Array;
-  count: Float64Array;
+  cell: Int32Array;
+  count: Int32Array;
   groupCodes: string[];
   categoryCodes: string[];
   minDay: number;
   maxDay: number;
 }
 
-function indexer(codes: string[]): (code: string) => number {
-  const index = new Map<string, number>();
-  return (code) => {
-    let i = index.get(code);
-    if (i === undefined) {
-      i = codes.length;
-      codes.push(code);
-      index.set(code, i);
-    }
-    return i;
-  };
+const MAX_CODES = 32_768;
+const PACK = 65_536;
+const MAX_COUNT = 2_147_483_647;
+
+// The staging buffers are reused from call to call: allocating ~25 MB of fresh typed
+// arrays per scan makes V8 run full collections, and with two million row objects alive
+// each of those costs more than the whole bucketing pass.
+let scratch = { day: new Int32Array(0), cell: new Int32Array(0), count: new Int32Array(0) };
+
+function scratchFor(n: number): typeof scratch {
+  if (scratch.day.length < n) {
+    const size = Math.max(n, Math.ceil(scratch.day.length * 1.5));
+    scratch = { day: new Int32Array(size), cell: new Int32Array(size), count: new Int32Array(size) };
+  }
+  return scratch;
 }
 
-function checkCount(count: unknown, at: number): number {
-  if (typeof count !== "number" || !Number.isInteger(count) || count < 0) {
-    throw new RangeError(`row ${at + 1}: count must be a whole number ≥ 0 (got ${String(count)})`);
+/**
+ * Code → dense index, assigned in order of first appearance. Tallies usually arrive
+ * sorted (date, line, shift, category), so the next code is most often the same as the
+ * last one or the one after it: checking those two by string equality before the map
+ * lookup takes most of the hashing out of the two-million-row loop.
+ */
+class CodeIndex {
+  readonly codes: string[] = [];
+  private readonly index = new Map<string, number>();
+  private last = -1;
+
+  of(code: string): number {
+    const codes = this.codes;
+    const last = this.last;
+    if (last >= 0) {
+      if (codes[last] === code) return last;
+      const next = last + 1 < codes.length ? last + 1 : 0;
+      if (codes[next] === code) return (this.last = next);
+    }
+    let i = this.index.get(code);
+    if (i === undefined) {
+      i = codes.length;
+      if (i >= MAX_CODES) throw new RangeError(`more than ${MAX_CODES} distinct codes`);
+      codes.push(code);
+      this.index.set(code, i);
+    }
+    return (this.last = i);
   }
-  return count;
+}
+
+function badCount(count: unknown, at: number): never {
+  throw new RangeError(`row ${at + 1}: count must be a whole number from 0 to ${MAX_COUNT} (got ${String(count)})`);
 }
 
 function stage(rows: readonly TallyRow[], spec: BucketSpec): Staged {
   const n = rows.length;
-  const out: Staged = {
-    kept: 0,
-    day: new Int32Array(n),
-    group: new Int32Array(n),
-    category: new Int32Array(n),
-    count: new Float64Array(n),
-    groupCodes: [],
-    categoryCodes: [],
-    minDay: Infinity,
-    maxDay: -Infinity,
-  };
+  const { day, cell, count: counts } = scratchFor(n);
   const parseDay = dayNumberCache();
-  const groupIndex = indexer(out.groupCodes);
-  const categoryIndex = indexer(out.categoryCodes);
-  const lines = spec.lines ? new Set(spec.lines) : null;
-  const shifts = spec.shifts ? new Set(spec.shifts) : null;
-  const categories = spec.categories ? new Set(spec.categories) : null;
+  const groups = new CodeIndex();
+  const categories = new CodeIndex();
+  const lineFilter = spec.lines ? new Set(spec.lines) : null;
+  const shiftFilter = spec.shifts ? new Set(spec.shifts) : null;
+  const categoryFilter = spec.categories ? new Set(spec.categories) : null;
   const from = spec.fromDay ?? -Infinity;
   const to = spec.toDay ?? Infinity;
   const byLine = spec.groupBy === "line";
   let lastDate = "";
   let lastDay = 0;
+  let minDay = Infinity;
+  let maxDay = -Infinity;
+  let kept = 0;
   for (let i = 0; i < n; i++) {
     const row = rows[i];
     // Rows usually arrive sorted by date: skip the map lookup while the date repeats.
@@ -101,20 +125,20 @@ function stage(rows: readonly TallyRow[], spec: BucketSpec): Staged {
       lastDay = parseDay(date);
       lastDate = date;
     }
-    const count = checkCount(row.count, i);
+    const count = row.count;
+    if (!(Number.isInteger(count) && count >= 0 && count <= MAX_COUNT)) badCount(count, i);
     if (lastDay < from || lastDay > to) continue;
-    if (lines !== null && !lines.has(row.line)) continue;
-    if (shifts !== null && !shifts.has(row.shift)) continue;
-    if (categories !== null && !categories.has(row.category)) continue;
-    const k = out.kept++;
-    out.day[k] = lastDay;
-    out.group[k] = groupIndex(byLine ? row.line : row.shift);
-    out.category[k] = categoryIndex(row.category);
-    out.count[k] = count;
-    if (lastDay < out.minDay) out.minDay = lastDay;
-    if (lastDay > out.maxDay) out.maxDay = lastDay;
+    if (lineFilter !== null && !lineFilter.has(row.line)) continue;
+    if (shiftFilter !== null && !shiftFilter.has(row.shift)) continue;
+    if (categoryFilter !== null && !categoryFilter.has(row.category)) continue;
+    day[kept] = lastDay;
+    cell[kept] = groups.of(byLine ? row.line : row.shift) * PACK + categories.of(row.category);
+    counts[kept] = count;
+    kept++;
+    if (lastDay < minDay) minDay = lastDay;
+    if (lastDay > maxDay) maxDay = lastDay;
   }
-  return out;
+  return { kept, day, cell, count: counts, groupCodes: groups.codes, categoryCodes: categories.codes, minDay, maxDay };
 }
 
 // Final order of codes: the filter's order when one is given (absent codes included, so
@@ -146,9 +170,14 @@ export function bucketTallies(rows: readonly TallyRow[], spec: BucketSpec): Cube
   const cube = createCube(firstDay, lastDay - firstDay + 1, groups.codes, categories.codes);
   const columns = categories.codes.length;
   const { data, width } = cube;
-  for (let k = 0; k < staged.kept; k++) {
-    const cell = (staged.day[k] - firstDay) * width + groups.remap[staged.group[k]] * columns;
-    data[cell + categories.remap[staged.category[k]]] += staged.count[k];
+  const { day, cell, count, kept } = staged;
+  const groupRemap = groups.remap;
+  const categoryRemap = categories.remap;
+  for (let k = 0; k < kept; k++) {
+    const packed = cell[k];
+    const g = groupRemap[packed >>> 16];
+    const c = categoryRemap[packed & 0xffff];
+    data[(day[k] - firstDay) * width + g * columns + c] += count[k];
   }
   return cube;
 }

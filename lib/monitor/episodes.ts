@@ -1,4 +1,4 @@
-import { dayNumber } from "./dates";
+import { flaggedRuns, peakOf, runEnd } from "./runs";
 import type { Episode, EpisodeDriver, ScanWindow } from "./types";
 
 /**
@@ -15,38 +15,13 @@ import type { Episode, EpisodeDriver, ScanWindow } from "./types";
  * buildEpisodes(windows).map((e) => [e.start, e.end, e.windows]); // [["2026-03-02", "2026-03-12", 5]]
  */
 export function buildEpisodes(windows: readonly ScanWindow[]): Episode[] {
-  const episodes: Episode[] = [];
-  let run: ScanWindow[] = [];
-  let runEnd = -Infinity;
-  for (const w of windows) {
-    if (!w.flagged) continue;
-    const start = dayNumber(w.start);
-    if (run.length > 0 && start > runEnd + 1) {
-      episodes.push(episodeOf(run));
-      run = [];
-    }
-    run.push(w);
-    runEnd = Math.max(runEnd, dayNumber(w.end));
-  }
-  if (run.length > 0) episodes.push(episodeOf(run));
-  return episodes;
-}
-
-function episodeOf(run: ScanWindow[]): Episode {
-  let end = run[0].end;
-  for (const w of run) if (w.end > end) end = w.end;
-  return { start: run[0].start, end, windows: run.length, peak: peakOf(run), drivers: rankDrivers(run) };
-}
-
-function peakOf(run: ScanWindow[]): ScanWindow {
-  let peak = run[0];
-  for (const w of run) {
-    const better =
-      w.adjustedPValue! < peak.adjustedPValue! ||
-      (w.adjustedPValue === peak.adjustedPValue && w.pValue! < peak.pValue!);
-    if (better) peak = w;
-  }
-  return peak;
+  return flaggedRuns(windows, (w) => w.flagged).map((run) => ({
+    start: run[0].start,
+    end: runEnd(run),
+    windows: run.length,
+    peak: peakOf(run),
+    drivers: rankDrivers(run),
+  }));
 }
 
 function rankDrivers(run: ScanWindow[]): EpisodeDriver[] {

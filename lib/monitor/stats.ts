@@ -7,6 +7,7 @@ import { analyzeTable, type TableAnalysis } from "@/lib/stats/analyze-table";
 import { chiSquareUpperTail } from "@/lib/stats/chi-square-upper-tail";
 import { cramersVCorrected } from "@/lib/stats/cramers-v";
 import { checkExpectedCounts } from "@/lib/stats/expected-count-check";
+import { monteCarloPValue } from "@/lib/stats/monte-carlo";
 
 export { analyzeTable, chiSquareUpperTail, checkExpectedCounts, cramersVCorrected, type TableAnalysis };
 
@@ -20,8 +21,8 @@ export function exactIfFeasible(_table: number[][]): number | null {
 }
 
 /** Monte Carlo p-value with a fixed seed. */
-export function monteCarlo(_table: number[][], _replicates: number, _seed: number): { pValue: number; standardError: number; replicates: number } {
-  return pending("monteCarloPValue");
+export function monteCarlo(table: number[][], replicates: number, seed: number): { pValue: number; standardError: number; replicates: number } {
+  return monteCarloPValue(table, { replicates, seed });
 }
 
 /** Sparse categories pooled (family first, then smallest): the pooled table and what went where. */
@@ -42,4 +43,12 @@ export function adjust(p: number[], method: "bh" | "bonferroni" | "none"): numbe
 /** Critical |adjusted residual| for r·c cells at level α (Bonferroni, two-sided). */
 export function driverCritical(_rows: number, _columns: number, _alpha: number): number {
   return pending("driverCriticalValue");
+}
+
+/** Poisson rate homogeneity across groups plus u-chart limits around the pooled rate. */
+export function rateTest(
+  _defects: number[],
+  _units: number[],
+): { statistic: number; df: number; pValue: number; pooledRate: number; lower: number[]; upper: number[] } {
+  return pending("rateHomogeneity");
 }

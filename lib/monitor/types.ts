@@ -148,3 +148,53 @@ export interface ScanResult {
   windows: ScanWindow[];
   episodes: Episode[];
 }
+
+/** One group's defect rate in a window, with its u-chart limits. */
+export interface RateGroup {
+  /** The line or shift code (or "current"/"baseline"). */
+  group: string;
+  defects: number;
+  units: number;
+  /** defects / units; null when no units were inspected. */
+  defectsPerUnit: number | null;
+  /** u-chart limits ū ± 3√(ū/units) around the window's pooled rate ū (lower clipped at 0). */
+  lower: number | null;
+  upper: number | null;
+  /** Which side of the limits the group's rate falls, if outside. */
+  outside: "above" | "below" | null;
+}
+
+/** One window of a rate scan. */
+export interface RateWindow {
+  start: string;
+  end: string;
+  groups: RateGroup[];
+  /** Groups left out of the test because no units were inspected in the window. */
+  droppedGroups: string[];
+  testable: boolean;
+  reason: string | null;
+  /** Pooled rate ū = Σ defects / Σ units of the tested groups. */
+  pooledRate: number | null;
+  /** Poisson rate homogeneity statistic and its df (lib/stats rateHomogeneity). */
+  statistic: number | null;
+  df: number | null;
+  pValue: number | null;
+  /** Adjusted across the rate windows of the scan only (never mixed with the mix p-values). */
+  adjustedPValue: number | null;
+  /** A rate signal: adjusted p ≤ α. Not a mix signal. */
+  rateFlagged: boolean;
+}
+
+/** A run of rate-flagged windows that overlap or touch. */
+export interface RateEpisode {
+  start: string;
+  end: string;
+  windows: number;
+  /** The window with the smallest adjusted p. */
+  peak: RateWindow;
+}
+
+export interface RateResult {
+  windows: RateWindow[];
+  episodes: RateEpisode[];
+}
