@@ -1,33 +1,55 @@
 import Link from "next/link";
+import { signOut } from "@/app/signin/actions";
+import { currentUser } from "@/lib/auth/guard";
+import { ROLE_LABELS, roleAtLeast, type Role } from "@/lib/auth/roles";
 
-const NAV = [
-  { href: "/", label: "Overview" },
-  { href: "/week", label: "Weekly review" },
-  { href: "/episodes", label: "Flagged periods" },
-  { href: "/entry", label: "Floor entry" },
-  { href: "/import", label: "Import" },
-  { href: "/setup", label: "Setup" },
+/** Main destinations and the lowest role that may open each (badge sessions: floor entry only). */
+const NAV: { href: string; label: string; min: Role; floor?: boolean }[] = [
+  { href: "/", label: "Overview", min: "engineer" },
+  { href: "/week", label: "Weekly review", min: "engineer" },
+  { href: "/episodes", label: "Flagged periods", min: "engineer" },
+  { href: "/entry", label: "Floor entry", min: "operator", floor: true },
+  { href: "/import", label: "Import", min: "engineer" },
+  { href: "/setup", label: "Setup", min: "admin" },
+  { href: "/admin/users", label: "Users & tokens", min: "admin" },
 ];
 
-/** The bar on every page: brand and the main destinations. */
+/** The bar on every page: brand, the destinations the signed-in role may use, who is signed in. */
 export async function SiteHeader() {
+  const me = await currentUser();
+  const items = me ? NAV.filter((item) => roleAtLeast(me.role, item.min) && (me.sessionKind === "password" || item.floor)) : [];
+  const home = me && (me.role === "operator" || me.sessionKind === "badge") ? "/entry" : "/";
   return (
     <header className="site-header">
-      <Link href="/" className="brand" aria-label="Linemix home">
+      <Link href={me ? home : "/signin"} className="brand" aria-label="Linemix home">
         <span className="brand-mark" aria-hidden="true">
           ▚
         </span>
         Linemix
       </Link>
-      <nav aria-label="Main">
-        <ul>
-          {NAV.map((item) => (
-            <li key={item.href}>
-              <Link href={item.href}>{item.label}</Link>
-            </li>
-          ))}
-        </ul>
-      </nav>
+      {items.length > 0 && (
+        <nav aria-label="Main">
+          <ul>
+            {items.map((item) => (
+              <li key={item.href}>
+                <Link href={item.href}>{item.label}</Link>
+              </li>
+            ))}
+          </ul>
+        </nav>
+      )}
+      {me && (
+        <div className="header-aside">
+          <span className="header-user">
+            {me.displayName} <span className="header-role">{ROLE_LABELS[me.role]}{me.sessionKind === "badge" ? " · badge" : ""}</span>
+          </span>
+          <form action={signOut}>
+            <button type="submit" className="header-signout">
+              Sign out
+            </button>
+          </form>
+        </div>
+      )}
     </header>
   );
 }

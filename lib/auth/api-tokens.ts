@@ -60,3 +60,43 @@ export async function revokeApiToken(id: number, now = new Date()): Promise<bool
   const result = await db().apiToken.updateMany({ where: { id, revokedAt: null }, data: { revokedAt: now } });
   return result.count > 0;
 }
+
+/** Admin operations with their AuditEvent. */
+export async function issueApiToken(
+  actor: { id: number; name: string },
+  name: string,
+  scopes: ApiScope[],
+): Promise<{ ok: true; id: number; token: string; prefix: string } | { ok: false; error: string }> {
+  const clean = name.trim();
+  if (clean.length < 2 || clean.length > 80) return { ok: false, error: "A token name is 2-80 characters." };
+  if (scopes.filter(isApiScope).length === 0) return { ok: false, error: "Choose at least one scope." };
+  const created = await createApiToken(clean, scopes, actor.id);
+  await db().auditEvent.create({
+    data: {
+      actorId: actor.id,
+      actorName: actor.name,
+      action: "token.create",
+      entity: "api-token",
+      entityId: String(created.id),
+      after: JSON.stringify({ name: clean, prefix: created.prefix, scopes }),
+    },
+  });
+  return { ok: true, ...created };
+}
+
+export async function withdrawApiToken(actor: { id: number; name: string }, id: number): Promise<{ ok: true } | { ok: false; error: string }> {
+  const row = await db().apiToken.findUnique({ where: { id } });
+  if (!row) return { ok: false, error: "No such token." };
+  if (!(await revokeApiToken(id))) return { ok: false, error: "That token was already revoked." };
+  await db().auditEvent.create({
+    data: {
+      actorId: actor.id,
+      actorName: actor.name,
+      action: "token.revoke",
+      entity: "api-token",
+      entityId: String(id),
+      before: JSON.stringify({ name: row.name, prefix: row.prefix, scopes: row.scopes }),
+    },
+  });
+  return { ok: true };
+}

@@ -4,7 +4,8 @@ import { cache } from "react";
 import { AuthError, authenticateRequest, checkActionUser, decide, type Principal } from "./access";
 import type { TokenPrincipal } from "./api-tokens";
 import type { Role } from "./roles";
-import { SESSION_COOKIE, validateSessionToken, type UserPrincipal } from "./sessions";
+import { PATH_HEADER, SESSION_COOKIE } from "./constants";
+import { validateSessionToken, type UserPrincipal } from "./sessions";
 import { safeNext } from "./next-path";
 
 /**
@@ -23,8 +24,6 @@ export type { TokenPrincipal } from "./api-tokens";
 export type { Principal } from "./access";
 export { AuthError } from "./access";
 
-/** Header the proxy sets with the requested path and query, so guards can send people back after sign-in. */
-export const PATH_HEADER = "x-linemix-path";
 
 const sessionFromCookie = cache(async (): Promise<UserPrincipal | null> => {
   const token = (await cookies()).get(SESSION_COOKIE)?.value;

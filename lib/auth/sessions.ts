@@ -9,7 +9,7 @@ import { randomToken, sha256 } from "./tokens-crypto";
  * are tested directly; lib/auth/guard.ts is the thin glue to Next's cookies().
  */
 
-export const SESSION_COOKIE = "linemix_session";
+export { SESSION_COOKIE } from "./constants";
 export type SessionKind = "password" | "badge";
 
 export type UserPrincipal = {
