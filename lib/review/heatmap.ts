@@ -12,6 +12,7 @@
 export const RDBU_9 = ["#2166ac", "#4393c3", "#92c5de", "#d1e5f0", "#f7f7f7", "#fddbc7", "#f4a582", "#d6604d", "#b2182b"] as const;
 
 const INK = "#1d2433";
+const BLACK = "#000000";
 const WHITE = "#ffffff";
 
 export interface HeatClass {
@@ -63,8 +64,10 @@ export function contrastRatio(a: string, b: string): number {
   return (hi + 0.05) / (lo + 0.05);
 }
 
+// The page's ink where it reaches 4.5:1, else whichever of black and white contrasts more.
 function textOn(fill: string): string {
-  return contrastRatio(fill, INK) >= contrastRatio(fill, WHITE) ? INK : WHITE;
+  if (contrastRatio(fill, INK) >= 4.5) return INK;
+  return contrastRatio(fill, BLACK) >= contrastRatio(fill, WHITE) ? BLACK : WHITE;
 }
 
 function signedText(x: number): string {

@@ -75,7 +75,7 @@ function groupsNoun(kind: ReadingKind, subject?: string | null): string {
 function reference(kind: ReadingKind, subject?: string | null, weeks?: number): string {
   if (kind === "line") return "at the plant's mix";
   if (kind === "shift") return subject ? `at ${subject}'s mix over all its shifts` : "at the plant's mix over all shifts";
-  return `at the mix of ${subject ?? "the line"}'s previous ${weeks ?? 8} weeks taken together with this window`;
+  return `at ${subject ?? "the line"}'s mix over this window and its previous ${weeks ?? 8} weeks`;
 }
 
 function quote(name: string): string {
