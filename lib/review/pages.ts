@@ -21,13 +21,13 @@ function rateSignalsAt(rates: RateSeries | null, index: number, comparison: Comp
   const out: ReadingRateSignal[] = [];
   for (const g of rates.groups) {
     const p = rates.byGroup[g]?.[index];
-    if (!p || !p.signal || p.u === null || p.upper === null || p.lower === null) continue;
+    if (!p || !p.windowFlagged || !p.outside || p.u === null || p.upper === null || p.lower === null) continue;
     out.push({
       groupName: comparison.compare === "shift" ? n.shift(g) : n.line(g),
       rate: p.u,
       upperLimit: p.upper,
       lowerLimit: p.lower,
-      direction: p.signal,
+      direction: p.outside,
     });
   }
   return out;

@@ -2,6 +2,7 @@ import { rawDb } from "@/lib/db/client";
 import type { ComparisonRecord } from "@/lib/db/comparisons";
 import { addDays } from "@/lib/dates";
 import { scanHistory, scanWindows } from "@/lib/monitor";
+import { scanRates } from "@/lib/monitor/rates";
 import type { ScanResult, ScanWindow, TallyRow, UnitsRow } from "@/lib/monitor/types";
 import { analyzeTable, type TableAnalysis } from "@/lib/stats/analyze-table";
 import { criticalValue } from "./critical";
@@ -290,22 +291,26 @@ export interface RatePoint {
   units: number;
   /** Defects per unit, null without units. */
   u: number | null;
+  /** The window's pooled rate over the compared groups (the u-chart centre line). */
   centre: number | null;
   upper: number | null;
   lower: number | null;
-  signal: "above" | "below" | null;
+  /** Outside its u-chart limits. */
+  outside: "above" | "below" | null;
+  /** The window's rate test flagged (adjusted across the rate windows only). */
+  windowFlagged: boolean;
 }
 
 export interface RateSeries {
   groups: string[];
-  /** Per group, one point per scan window (same order as the scan's windows). */
-  byGroup: Record<string, RatePoint[]>;
+  /** Per group, one point per mix window (same order as the scan's windows; null where the rate scan has none). */
+  byGroup: Record<string, (RatePoint | null)[]>;
 }
 
 /**
- * Defects per unit per group and window with u-chart limits: centre ū = the group's
- * defects / units over the whole scanned history, limits ū ± 3√(ū / n) for the window's
- * n units. Interim until lib/monitor's scanRates is available to the pages.
+ * Defects per unit per group and window, with u-chart limits and the rate test, from
+ * lib/monitor's scanRates over the same window plan as the mix scan. Cached with the scan.
+ * History comparisons have no rate panel until the service offers their rate scan.
  */
 export function rateSeries(run: ComparisonRun): RateSeries | null {
   const entry = store().scans.get(run.comparison.code);
@@ -317,64 +322,31 @@ export function rateSeries(run: ComparisonRun): RateSeries | null {
 
 function computeRates(run: ComparisonRun): RateSeries | null {
   const c = run.comparison;
-  if (run.windows.length === 0) return null;
+  if (run.windows.length === 0 || c.compare === "history") return null;
   const loaded = load();
   if (loaded.units.length === 0) return null;
-  const history = c.compare === "history";
-  const groups = history ? [(c.lines ?? [])[0]] : [...new Set(run.windows.flatMap((w) => [...w.groups, ...w.droppedGroups]))].sort();
-  const groupOf = (r: { line: string; shift: string }) => (history || c.compare === "line" ? r.line : r.shift);
-  const lineOk = c.lines ? new Set(c.lines) : null;
-  const shiftOk = c.shifts ? new Set(c.shifts) : null;
-  const catOk = c.categories ? new Set(c.categories) : null;
-  const first = run.windows[0].start;
-  const last = run.windows[run.windows.length - 1].end;
-  const day = (d: string) => Math.round((Date.parse(d) - Date.parse(first)) / 86_400_000);
-  const span = day(last) + 1;
-  const gi = new Map(groups.map((g, i) => [g, i]));
-  const defects = new Float64Array(span * groups.length);
-  const units = new Float64Array(span * groups.length);
-  for (const r of rowsBetween(loaded.rows, first, last)) {
-    if (lineOk && !lineOk.has(r.line)) continue;
-    if (shiftOk && !shiftOk.has(r.shift)) continue;
-    if (catOk && !catOk.has(r.category)) continue;
-    const g = gi.get(groupOf(r));
-    if (g === undefined) continue;
-    defects[day(r.date) * groups.length + g] += r.count;
-  }
-  for (const u of rowsBetween(loaded.units, first, last)) {
-    if (lineOk && !lineOk.has(u.line)) continue;
-    if (shiftOk && !shiftOk.has(u.shift)) continue;
-    const g = gi.get(groupOf(u));
-    if (g === undefined) continue;
-    units[day(u.date) * groups.length + g] += u.units;
-  }
-  // Prefix sums per group, so each window is two subtractions.
-  const G = groups.length;
-  const pd = new Float64Array((span + 1) * G);
-  const pu = new Float64Array((span + 1) * G);
-  for (let d = 0; d < span; d++) {
-    for (let g = 0; g < G; g++) {
-      pd[(d + 1) * G + g] = pd[d * G + g] + defects[d * G + g];
-      pu[(d + 1) * G + g] = pu[d * G + g] + units[d * G + g];
-    }
-  }
-  const byGroup: Record<string, RatePoint[]> = {};
-  groups.forEach((group, g) => {
-    const totalD = pd[span * G + g];
-    const totalU = pu[span * G + g];
-    const centre = totalU > 0 ? totalD / totalU : null;
-    byGroup[group] = run.windows.map((w) => {
-      const a = day(w.start);
-      const b = day(w.end) + 1;
-      const d = pd[b * G + g] - pd[a * G + g];
-      const n = pu[b * G + g] - pu[a * G + g];
-      const u = n > 0 ? d / n : null;
-      const sigma = centre !== null && n > 0 ? Math.sqrt(centre / n) : null;
-      const upper = centre !== null && sigma !== null ? centre + 3 * sigma : null;
-      const lower = centre !== null && sigma !== null ? Math.max(0, centre - 3 * sigma) : null;
-      const signal = u === null || upper === null || lower === null ? null : u > upper ? "above" : u < lower ? "below" : null;
-      return { start: w.start, end: w.end, defects: d, units: n, u, centre, upper, lower, signal };
+  const result = scanRates(loaded.rows, loaded.units, { ...scanOptions(c, loaded.families), compare: c.compare, lines: c.lines ?? undefined });
+  const byStart = new Map(result.windows.map((w) => [w.start, w]));
+  const groups = [...new Set(result.windows.flatMap((w) => w.groups.map((g) => g.group)))].sort();
+  const byGroup: Record<string, (RatePoint | null)[]> = {};
+  for (const g of groups) {
+    byGroup[g] = run.windows.map((mix) => {
+      const w = byStart.get(mix.start);
+      const r = w?.groups.find((x) => x.group === g);
+      if (!w || !r) return null;
+      return {
+        start: w.start,
+        end: w.end,
+        defects: r.defects,
+        units: r.units,
+        u: r.defectsPerUnit,
+        centre: w.pooledRate,
+        upper: r.upper,
+        lower: r.lower,
+        outside: r.outside,
+        windowFlagged: w.rateFlagged,
+      };
     });
-  });
+  }
   return { groups, byGroup };
 }

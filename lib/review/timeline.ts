@@ -44,7 +44,8 @@ export interface TimelineBand {
 export interface RatePanelGroup {
   code: string;
   name: string;
-  points: { x: number; end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; signal: "above" | "below" | null }[];
+  points: { x: number; end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; outside: "above" | "below" | null; windowFlagged: boolean }[];
+  /** Windows where the rate test flagged and this group sat outside its limits. */
   signals: number;
 }
 
@@ -72,7 +73,10 @@ export function shapeTimeline(
   windows: readonly ScanWindow[],
   episodes: readonly Episode[],
   names: Names,
-  rates: { groups: string[]; byGroup: Record<string, { end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; signal: "above" | "below" | null }[]> } | null,
+  rates: {
+    groups: string[];
+    byGroup: Record<string, ({ end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; outside: "above" | "below" | null; windowFlagged: boolean } | null)[]>;
+  } | null,
 ): TimelineData {
   const points: TimelinePoint[] = windows.map((w, i) => {
     const raw = minusLog10(w.adjustedPValue, 400);
@@ -112,12 +116,14 @@ export function shapeTimeline(
   const rate = rates
     ? rates.groups.map((g) => {
         const series = rates.byGroup[g] ?? [];
-        const pts = series.map((p) => ({ x: dayNumberOf(p.end), end: p.end, u: p.u, centre: p.centre, upper: p.upper, lower: p.lower, signal: p.signal }));
+        const pts = series
+          .filter((p) => p !== null)
+          .map((p) => ({ x: dayNumberOf(p.end), end: p.end, u: p.u, centre: p.centre, upper: p.upper, lower: p.lower, outside: p.outside, windowFlagged: p.windowFlagged }));
         return {
           code: g,
           name: c.compare === "shift" ? names.shift(g) : names.line(g),
           points: pts,
-          signals: pts.filter((p) => p.signal !== null).length,
+          signals: pts.filter((p) => p.outside !== null && p.windowFlagged).length,
         };
       })
     : null;

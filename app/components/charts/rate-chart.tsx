@@ -8,10 +8,11 @@ import { CHART } from "./palette";
 type Point = RatePanelGroup["points"][number];
 
 /**
- * Defects per unit of one group per window, with its u-chart centre line and limits
- * (step lines, since the limits move with the units inspected). Windows outside the
- * limits are drawn as filled squares. A select picks the group; groups with signals
- * are listed first.
+ * Defects per unit of one group per window, with the u-chart centre line (the window's
+ * pooled rate over the compared groups) and the group's limits (step lines, since they
+ * move with the units inspected). Outside the limits: a filled square where the window's
+ * rate test flagged, a hollow one otherwise. A select picks the group; groups with
+ * signals are listed first.
  */
 export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGroup[]; ticks: { x: number; label: string }[]; xMin: number; xMax: number }) {
   const ordered = [...groups].sort((a, b) => b.signals - a.signals);
@@ -28,7 +29,7 @@ export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGrou
           {ordered.map((g) => (
             <option key={g.code} value={g.code}>
               {g.name}
-              {g.signals ? ` — ${g.signals} windows outside limits` : ""}
+              {g.signals ? ` — rate signal in ${g.signals} windows` : ""}
             </option>
           ))}
         </select>
@@ -51,7 +52,7 @@ export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGrou
       </ComposedChart>
       <p className="chart-key">
         <span className="key-line" aria-hidden="true" /> defects per unit · <span className="key-dash" aria-hidden="true" /> u-chart limits (±3σ) ·{" "}
-        <span className="key-square" aria-hidden="true" /> outside the limits
+        <span className="key-square" aria-hidden="true" /> outside the limits, rate test flagged · <span className="key-hollow" aria-hidden="true" /> outside the limits only
       </p>
     </div>
   );
@@ -60,8 +61,13 @@ export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGrou
 function SignalDot(props: DotItemDotProps) {
   const p = props.payload as Point | undefined;
   const { cx, cy } = props as unknown as { cx?: number; cy?: number };
-  if (!p || !p.signal || cx === undefined || cy === undefined) return <g key={props.index} />;
-  return <rect key={props.index} x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal={p.signal} />;
+  if (!p || !p.outside || cx === undefined || cy === undefined) return <g key={props.index} />;
+  // Filled square: outside the limits in a window whose rate test flagged; hollow: outside the limits only.
+  return p.windowFlagged ? (
+    <rect key={props.index} x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal={p.outside} />
+  ) : (
+    <rect key={props.index} x={cx - 3} y={cy - 3} width={6} height={6} fill="#fff" stroke={CHART.signal} strokeWidth={1.2} />
+  );
 }
 
 function RateTooltip(props: TooltipContentProps) {
@@ -76,7 +82,8 @@ function RateTooltip(props: TooltipContentProps) {
       <div>
         limits {f(p.lower)} – {f(p.upper)} (centre {f(p.centre)})
       </div>
-      {p.signal ? <div>{p.signal === "above" ? "Above the upper limit" : "Below the lower limit"}</div> : null}
+      {p.outside ? <div>{p.outside === "above" ? "Above the upper limit" : "Below the lower limit"}</div> : null}
+      {p.windowFlagged ? <div>Rate test flagged this window</div> : null}
     </div>
   );
 }
