@@ -221,14 +221,14 @@ function drivers(b: Brief, data: BriefData): void {
   const w = b.width;
   b.table(
     [
-      { label: "Group", width: w * 0.2 },
-      { label: "Category", width: w * 0.22 },
+      { label: "Group", width: w * 0.17 },
+      { label: "Category", width: w * 0.2 },
       { label: "Observed", width: w * 0.1, align: "right" },
       { label: "Expected", width: w * 0.1, align: "right" },
       { label: "Ratio", width: w * 0.08, align: "right" },
-      { label: "Adj. residual", width: w * 0.11, align: "right" },
-      { label: "Share of X²", width: w * 0.1, align: "right" },
-      { label: "Windows", width: w * 0.09, align: "right" },
+      { label: "Adj. residual", width: w * 0.13, align: "right" },
+      { label: "Share of X²", width: w * 0.12, align: "right" },
+      { label: "Windows", width: w * 0.1, align: "right" },
     ],
     peak.drivers.map((d) => [
       rowName(data, d.row),
@@ -261,13 +261,15 @@ function heatmap(b: Brief, data: BriefData): void {
   for (let g0 = 0; g0 < peak.rows.length; g0 += 8) {
     const groups = peak.rows.slice(g0, g0 + 8).map((row, k) => ({ row, i: g0 + k }));
     const cellWidth = Math.min(58, (b.width - labelWidth) / groups.length);
+    doc.font("Helvetica-Bold").fontSize(7.5);
+    const headerHeight = Math.min(20, Math.max(...groups.map((g) => doc.heightOfString(pdfText(rowName(data, g.row)), { width: cellWidth })))) + 3;
     const drawHeader = () => {
       const y = doc.y;
       groups.forEach((g, k) => {
         doc.font("Helvetica-Bold").fontSize(7.5).fillColor(INK);
         doc.text(pdfText(rowName(data, g.row)), b.left + labelWidth + k * cellWidth, y, { width: cellWidth, align: "center", height: 20, ellipsis: true });
       });
-      doc.y = y + 20;
+      doc.y = y + headerHeight;
     };
     const blockHeight = 20 + cellHeight * peak.columns.length + 40;
     b.ensure(blockHeight < b.bottom - MARGIN ? blockHeight : 20 + cellHeight * 3);
@@ -350,6 +352,7 @@ function observedTable(b: Brief, data: BriefData): void {
 /** −log10(adjusted p) per window around the episode, with α and the episode's span. */
 function timeline(b: Brief, data: BriefData): void {
   const points = data.timeline;
+  b.ensure(250); // the heading stays with its chart
   b.heading("Timeline around the flagged period");
   if (points.length === 0) {
     b.text("No windows to show.", { color: SOFT });
@@ -358,7 +361,7 @@ function timeline(b: Brief, data: BriefData): void {
   const doc = b.doc;
   const height = 150;
   b.ensure(height + 50);
-  const top = doc.y + 4;
+  const top = doc.y + 16;
   const axisLeft = b.left + 34;
   const plotWidth = b.width - 40;
   const bottom = top + height;
@@ -376,8 +379,9 @@ function timeline(b: Brief, data: BriefData): void {
   const r = data.record;
   doc.rect(x(r.start), top, Math.max(1, x(r.end, 1) - x(r.start)), height).fill(SIGNAL_BG);
   // Peak window bracket.
-  doc.rect(x(r.peakStart), top, Math.max(1, x(r.peakEnd, 1) - x(r.peakStart)), 5).fill(SIGNAL);
-  doc.font("Helvetica").fontSize(7).fillColor(SIGNAL).text("peak window", x(r.peakStart), top + 6, { lineBreak: false });
+  const peakRight = x(r.peakEnd, 1);
+  doc.rect(x(r.peakStart), top - 9, Math.max(1, peakRight - x(r.peakStart)), 5).fill(SIGNAL);
+  doc.font("Helvetica").fontSize(7).fillColor(SIGNAL).text("peak window", peakRight + 3, top - 10, { lineBreak: false });
   // Axes and grid.
   doc.lineWidth(0.6).strokeColor(INK).moveTo(axisLeft, top).lineTo(axisLeft, bottom).lineTo(axisLeft + plotWidth, bottom).stroke();
   const step = yMax > 60 ? 20 : yMax > 24 ? 10 : yMax > 10 ? 4 : yMax > 5 ? 2 : 1;
