@@ -2,6 +2,7 @@ import Link from "next/link";
 import { signOut } from "@/app/signin/actions";
 import { currentUser } from "@/lib/auth/guard";
 import { ROLE_LABELS, roleAtLeast, type Role } from "@/lib/auth/roles";
+import { countOpenEpisodes } from "@/lib/db/episodes";
 
 /** Main destinations and the lowest role that may open each (badge sessions: floor entry only). */
 const NAV: { href: string; label: string; min: Role; floor?: boolean }[] = [
@@ -19,6 +20,7 @@ export async function SiteHeader() {
   const me = await currentUser();
   const items = me ? NAV.filter((item) => roleAtLeast(me.role, item.min) && (me.sessionKind === "password" || item.floor)) : [];
   const home = me && (me.role === "operator" || me.sessionKind === "badge") ? "/entry" : "/";
+  const openEpisodes = items.some((item) => item.href === "/episodes") ? await countOpenEpisodes() : null;
   return (
     <header className="site-header">
       <Link href={me ? home : "/signin"} className="brand" aria-label="Linemix home">
@@ -32,7 +34,14 @@ export async function SiteHeader() {
           <ul>
             {items.map((item) => (
               <li key={item.href}>
-                <Link href={item.href}>{item.label}</Link>
+                <Link href={item.href}>
+                  {item.label}
+                  {item.href === "/episodes" && openEpisodes !== null && (
+                    <span className="state state-flagged header-open-episodes" data-testid="open-episodes">
+                      {openEpisodes} open
+                    </span>
+                  )}
+                </Link>
               </li>
             ))}
           </ul>
