@@ -36,6 +36,7 @@ export async function SiteHeader() {
               <li key={item.href}>
                 <Link href={item.href}>
                   {item.label}
+                  {item.href === "/episodes" && openEpisodes !== null && " "}
                   {item.href === "/episodes" && openEpisodes !== null && (
                     <span className="state state-flagged header-open-episodes" data-testid="open-episodes">
                       {openEpisodes} open
