@@ -303,15 +303,15 @@ export async function addEpisodeNote(id: number, body: string, actor: Actor & { 
   });
 }
 
-/** Records who exported which episodes in which format. */
+/** Records who exported which episodes in which format: one record (entity Episode) or a list (entity Episodes). */
 export async function auditExport(
   actor: Actor,
-  what: { format: string; episodeIds: number[]; filter?: unknown; via: string },
+  what: { format: string; episodeIds: number[]; list: boolean; filter?: unknown; via: string },
 ): Promise<void> {
   await writeAudit(actor, {
     action: `export.episodes.${what.format}`,
-    entity: what.episodeIds.length === 1 ? "Episode" : "Episodes",
-    entityId: what.episodeIds.length === 1 ? String(what.episodeIds[0]) : null,
+    entity: what.list ? "Episodes" : "Episode",
+    entityId: what.list ? null : String(what.episodeIds[0]),
     after: { format: what.format, episodeIds: what.episodeIds, filter: what.filter ?? null, via: what.via },
   });
 }
