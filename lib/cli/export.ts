@@ -10,6 +10,7 @@ import { iterateCellTotals } from "../db/tallies";
 import { writeCsv } from "../csv/write-csv";
 import { isIsoDate } from "../dates";
 import { TALLY_COLUMNS, UNITS_COLUMNS } from "../intake/csv-read";
+import { episodesExporter } from "../episodes/export";
 
 export type ExportArgs = {
   from: string | null;
@@ -24,6 +25,8 @@ export type Exporter = {
   flag: string | null;
   summary: string;
   run(args: ExportArgs, out: Writable): Promise<number>;
+  /** Reads the arguments the common parser did not consume (args.rest) itself. */
+  ownArguments?: boolean;
 };
 
 const tallies: Exporter = {
@@ -39,7 +42,7 @@ const units: Exporter = {
 };
 
 /** Exporters by selecting flag. Another exporter (e.g. --episodes) is added here. */
-export const EXPORTERS: Exporter[] = [tallies, units];
+export const EXPORTERS: Exporter[] = [tallies, units, episodesExporter];
 
 const USAGE = [
   "usage: npm run export -- [--from YYYY-MM-DD] [--to YYYY-MM-DD] [--line CODE ...] [KIND]",
@@ -76,7 +79,7 @@ export function parseExportArgs(argv: string[]): { exporter: Exporter; args: Exp
   if (args.from && args.to && args.from > args.to) throw new UsageError(`--from ${args.from} is after --to ${args.to}`);
   if (chosen.length > 1) throw new UsageError(`choose one kind of export, got ${chosen.map((e) => e.flag).join(" and ")}`);
   const exporter = chosen[0] ?? tallies;
-  if (args.rest.length) throw new UsageError(`unknown argument ${args.rest.join(" ")}`);
+  if (args.rest.length && !exporter.ownArguments) throw new UsageError(`unknown argument ${args.rest.join(" ")}`);
   return { exporter, args };
 }
 
