@@ -25,8 +25,8 @@ export interface FinalizeOptions {
  * probability ≥ 1 − α. Bonferroni controls FWER under any dependence but loses power
  * with the hundreds of windows of a long scan; "none" reports raw p.
  *
- * Re-running it on the same states resets every window's adjustment, flag and drivers,
- * so the service can re-finalise after recomputing a few windows.
+ * It never mutates the states (it returns new window objects), so the service can
+ * re-finalise after retesting a few windows while earlier results stay as they were.
  *
  * Cost: O(m log m) for m testable windows, plus one analyzeTable per newly flagged window.
  *
@@ -39,19 +39,16 @@ export function finalizeScan(states: readonly WindowState[], options: FinalizeOp
     testable.map((s) => s.window.pValue!),
     options.adjust,
   );
-  for (const s of states) {
-    s.window.adjustedPValue = null;
-    s.window.flagged = false;
-    s.window.drivers = [];
-  }
-  testable.forEach((s, i) => {
+  const adjustedOf = new Map(testable.map((s, i) => [s, Math.min(1, adjusted[i])]));
+  // Fresh window objects each pass: results handed out earlier never change under their holder.
+  const windows = states.map((s): ScanWindow => {
+    const adjustedPValue = adjustedOf.get(s) ?? null;
+    if (adjustedPValue === null) return { ...s.window, adjustedPValue: null, flagged: false, drivers: [] };
     const w = s.window;
-    w.adjustedPValue = Math.min(1, adjusted[i]);
     const strongEnough = options.minEffect === 0 || (w.cramersVCorrected ?? -1) >= options.minEffect;
-    w.flagged = w.adjustedPValue <= options.alpha && strongEnough;
-    if (w.flagged) w.drivers = driversOf(s, options.alpha);
+    const flagged = adjustedPValue <= options.alpha && strongEnough;
+    return { ...w, adjustedPValue, flagged, drivers: flagged ? driversOf(s, options.alpha) : [] };
   });
-  const windows = states.map((s) => s.window);
   return { windows, episodes: buildEpisodes(windows) };
 }
 

@@ -37,7 +37,8 @@ export function windowsCovering(starts: Int32Array, windowDays: number, day: num
   return lo <= hi ? [lo, hi] : null;
 }
 
-function lowerBound(sorted: Int32Array, value: number): number {
+/** Index of the first element ≥ value in an ascending array (its length when none). */
+export function lowerBound(sorted: Int32Array, value: number): number {
   let lo = 0;
   let hi = sorted.length;
   while (lo < hi) {

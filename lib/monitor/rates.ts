@@ -50,21 +50,18 @@ export function finishRates(rates: PreparedRates): RateResult {
     testable.map((w) => w.pValue!),
     rates.adjust,
   );
-  for (const w of rates.states) {
-    w.adjustedPValue = null;
-    w.rateFlagged = false;
-  }
-  testable.forEach((w, i) => {
-    w.adjustedPValue = Math.min(1, adjusted[i]);
-    w.rateFlagged = w.adjustedPValue <= rates.alpha;
+  const adjustedOf = new Map(testable.map((w, i) => [w, Math.min(1, adjusted[i])]));
+  const windows = rates.states.map((w): RateWindow => {
+    const adjustedPValue = adjustedOf.get(w) ?? null;
+    return { ...w, adjustedPValue, rateFlagged: adjustedPValue !== null && adjustedPValue <= rates.alpha };
   });
-  const episodes = flaggedRuns(rates.states, (w) => w.rateFlagged).map((run) => ({
+  const episodes = flaggedRuns(windows, (w) => w.rateFlagged).map((run) => ({
     start: run[0].start,
     end: runEnd(run),
     windows: run.length,
     peak: peakOf(run),
   }));
-  return { windows: rates.states, episodes };
+  return { windows, episodes };
 }
 
 function testRates(rates: PreparedRates, lo: number, hi: number): RateWindow[] {

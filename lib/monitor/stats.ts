@@ -7,6 +7,7 @@ import { analyzeTable, type TableAnalysis } from "@/lib/stats/analyze-table";
 import { chiSquareUpperTail } from "@/lib/stats/chi-square-upper-tail";
 import { cramersVCorrected } from "@/lib/stats/cramers-v";
 import { checkExpectedCounts } from "@/lib/stats/expected-count-check";
+import { exactIsFeasible, exactPValue } from "@/lib/stats/fisher-exact";
 import { monteCarloPValue } from "@/lib/stats/monte-carlo";
 
 export { analyzeTable, chiSquareUpperTail, checkExpectedCounts, cramersVCorrected, type TableAnalysis };
@@ -16,8 +17,15 @@ function pending(name: string): never {
 }
 
 /** Fisher–Freeman–Halton exact p, or null when lib/stats deems the table too large. */
-export function exactIfFeasible(_table: number[][]): number | null {
-  return pending("exactPValue");
+export function exactIfFeasible(table: number[][]): number | null {
+  if (!exactIsFeasible(table).feasible) return null;
+  try {
+    return exactPValue(table);
+  } catch (error) {
+    // The feasibility bound is conservative but not a guarantee: over budget → Monte Carlo.
+    if (error instanceof RangeError) return null;
+    throw error;
+  }
 }
 
 /** Monte Carlo p-value with a fixed seed. */

@@ -25,6 +25,8 @@ export interface WindowTestOptions {
   seedKey: string;
   /** Plural noun for the rows, for reasons ("lines", "shifts", "periods"). */
   rowNoun: string;
+  /** Keep the tested table whatever the p-value (window detail). */
+  keepTable?: boolean;
 }
 
 interface Tested {
@@ -90,7 +92,7 @@ export function testWindow(
     cramersVCorrected: finiteOrNull(cramersVCorrected(tested.chiSquare, tested.n, tested.rows, tested.columns.length)),
   });
   // Adjusted p ≥ raw p for BH, Bonferroni and none, so only raw p ≤ α can ever flag.
-  const mayFlag = tested.pValue <= options.alpha;
+  const mayFlag = options.keepTable === true || tested.pValue <= options.alpha;
   const table = mayFlag ? (tested.table ?? keptTable(sums, categories.length, summary)) : null;
   return { window, table, rowLabels, columnLabels: tested.columns, drivers: null };
 }

@@ -1,0 +1,258 @@
+import type Database from "better-sqlite3";
+import { createCube, type Cube } from "./cube";
+import { dayNumber } from "./dates";
+import { finishScan, prepareScan, retestWindows, type PreparedScan } from "./engine";
+import { lowerBound, windowStarts } from "./plan";
+import { finishRates, prepareRates, retestRates, type PreparedRates } from "./rates";
+import { addCurrentTallies, addCurrentUnits, checkPackable, clearDays, currentDateRange, isoDates, type LoadSpec } from "./service-load";
+import type { MasterData, MasterRow, SavedComparison } from "./service-settings";
+import type { TouchedEntry } from "./service-version";
+import type { RateResult, ScanResult } from "./types";
+import type { WindowTestOptions } from "./window-test";
+
+/** A saved comparison's scan, kept alive so late data can be patched in. */
+export interface LiveScan {
+  comparison: SavedComparison;
+  master: MasterData;
+  spec: LoadSpec;
+  /** Null when the comparison has no current entries at all. */
+  mix: PreparedScan | null;
+  rates: PreparedRates | null;
+}
+
+export interface ScanOutput {
+  windows: ScanResult["windows"];
+  episodes: ScanResult["episodes"];
+  rates: RateResult;
+}
+
+function select(rows: MasterRow[], codes: string[] | null, what: string, comparison: string): MasterRow[] {
+  if (codes === null) return rows;
+  const byCode = new Map(rows.map((r) => [r.code, r]));
+  return codes.map((code) => {
+    const row = byCode.get(code);
+    if (!row) throw new RangeError(`comparison ${comparison} names an unknown ${what} "${code}"`);
+    return row;
+  });
+}
+
+/** The entries a comparison reads: its filters as ids, its groups and categories in display order. */
+export function loadSpecOf(c: SavedComparison, master: MasterData): LoadSpec {
+  const lines = select(master.lines, c.lines, "line", c.code);
+  const shifts = select(master.shifts, c.shifts, "shift", c.code);
+  const categories = select(master.categories, c.categories, "category", c.code);
+  return {
+    groupBy: c.compare === "shift" ? "shift" : "line",
+    groupIds: (c.compare === "shift" ? shifts : lines).map((r) => r.id),
+    categoryIds: categories.map((r) => r.id),
+    lineIds: c.lines === null ? null : lines.map((r) => r.id),
+    shiftIds: c.shifts === null ? null : shifts.map((r) => r.id),
+  };
+}
+
+function testOptions(c: SavedComparison, master: MasterData): WindowTestOptions {
+  const families: Record<string, string> = {};
+  for (const cat of master.categories) if (cat.family) families[cat.code] = cat.family;
+  return {
+    sparse: c.sparse,
+    alpha: c.alpha,
+    families,
+    seedKey: c.compare === "history" ? `history:${c.lines![0]}` : c.compare,
+    rowNoun: c.compare === "history" ? "periods" : `${c.compare}s`,
+  };
+}
+
+function codesOf(ids: number[], rows: MasterRow[]): string[] {
+  const byId = new Map(rows.map((r) => [r.id, r.code]));
+  return ids.map((id) => byId.get(id)!);
+}
+
+/**
+ * Reads a comparison's current entries into cubes and tests every window. Groups and
+ * categories without a single current entry in the whole history are left out (unless
+ * the comparison names them), so a retired line does not show as "dropped" in every window.
+ *
+ * Cost: the SQL aggregation (≈ 1 s for two million entries) plus the scan.
+ */
+export function buildLiveScan(db: Database.Database, comparison: SavedComparison, master: MasterData): LiveScan {
+  checkPackable(db);
+  const full = loadSpecOf(comparison, master);
+  const range = currentDateRange(db, full);
+  if (!range) return { comparison, master, spec: full, mix: null, rates: null };
+  const first = dayNumber(range.first);
+  const last = dayNumber(range.last);
+  const groupRows = full.groupBy === "shift" ? master.shifts : master.lines;
+  const wide = createCube(first, last - first + 1, codesOf(full.groupIds, groupRows), codesOf(full.categoryIds, master.categories));
+  addCurrentTallies(db, full, wide);
+  const { cube, spec } = compact(wide, full, comparison);
+  const units = createCube(first, cube.days, cube.groups, ["units"]);
+  addCurrentUnits(db, spec, units);
+  return { comparison, master, spec, ...prepareBoth(comparison, master, cube, units) };
+}
+
+function prepareBoth(c: SavedComparison, master: MasterData, cube: Cube, units: Cube): Pick<LiveScan, "mix" | "rates"> {
+  const history = c.compare === "history";
+  const baselineDays = history ? c.historyWeeks * 7 : 0;
+  const last = cube.firstDay + cube.days - 1;
+  const starts = windowStarts(cube.firstDay, last, c.windowDays, c.stepDays, baselineDays);
+  const kind = history ? "history" : "groups";
+  const mix = prepareScan({
+    kind,
+    cube,
+    starts,
+    windowDays: c.windowDays,
+    baselineDays,
+    test: testOptions(c, master),
+    finalize: { alpha: c.alpha, adjust: c.adjust, minEffect: c.minEffect },
+  });
+  const rates = prepareRates({ kind, tallies: cube, units, starts, windowDays: c.windowDays, baselineDays, alpha: c.alpha, adjust: c.adjust });
+  return { mix, rates };
+}
+
+// Drops groups and categories with no current entry over the whole range, unless named.
+function compact(cube: Cube, spec: LoadSpec, c: SavedComparison): { cube: Cube; spec: LoadSpec } {
+  const G = cube.groups.length;
+  const C = cube.categories.length;
+  const groupTotals = new Float64Array(G);
+  const categoryTotals = new Float64Array(C);
+  for (let d = 0; d < cube.days; d++) {
+    for (let g = 0; g < G; g++) {
+      const base = d * cube.width + g * C;
+      for (let j = 0; j < C; j++) {
+        const v = cube.data[base + j];
+        groupTotals[g] += v;
+        categoryTotals[j] += v;
+      }
+    }
+  }
+  const namedGroups = c.compare === "shift" ? c.shifts !== null : c.lines !== null;
+  const keepG = [...groupTotals.keys()].filter((g) => namedGroups || groupTotals[g] > 0);
+  const keepC = [...categoryTotals.keys()].filter((j) => c.categories !== null || categoryTotals[j] > 0);
+  if (keepG.length === G && keepC.length === C) return { cube, spec };
+  const out = createCube(cube.firstDay, cube.days, keepG.map((g) => cube.groups[g]), keepC.map((j) => cube.categories[j]));
+  const C2 = keepC.length;
+  for (let d = 0; d < cube.days; d++) {
+    keepG.forEach((g, g2) => {
+      keepC.forEach((j, j2) => {
+        out.data[d * out.width + g2 * C2 + j2] = cube.data[d * cube.width + g * C + j];
+      });
+    });
+  }
+  return {
+    cube: out,
+    spec: { ...spec, groupIds: keepG.map((g) => spec.groupIds[g]), categoryIds: keepC.map((j) => spec.categoryIds[j]) },
+  };
+}
+
+/** Whether an entry falls inside the comparison's filters. */
+function inScope(e: TouchedEntry, spec: LoadSpec, allCategoryIds: Set<number>): boolean {
+  if (spec.lineIds && !spec.lineIds.includes(e.lineId)) return false;
+  if (spec.shiftIds && !spec.shiftIds.includes(e.shiftId)) return false;
+  return e.categoryId === null || allCategoryIds.has(e.categoryId);
+}
+
+/** What a patch did: which windows it retested (indices), or that a rebuild is needed. */
+export type PatchOutcome = { rebuilt: false; retested: number[] } | { rebuilt: true };
+
+/**
+ * Applies entries that arrived after the live scan was built: reloads only the days they
+ * touch, retests only the windows covering those days (for a history scan also the
+ * windows whose baseline covers them), extending the plan when data arrive past the last
+ * day. Returns rebuilt: true (without patching) when the change cannot be patched: a new
+ * first day, a shorter range, or a group or category the scan has not seen.
+ */
+export function patchLiveScan(db: Database.Database, live: LiveScan, touched: TouchedEntry[]): PatchOutcome {
+  if (!live.mix || !live.rates) return { rebuilt: true };
+  const full = loadSpecOf(live.comparison, live.master);
+  const scope = new Set(full.categoryIds);
+  const relevant = touched.filter((e) => inScope(e, full, scope));
+  if (relevant.length === 0) return { rebuilt: false, retested: [] };
+  const knownGroups = new Set(live.spec.groupIds);
+  const knownCategories = new Set(live.spec.categoryIds);
+  const groupOf = (e: TouchedEntry) => (live.spec.groupBy === "shift" ? e.shiftId : e.lineId);
+  const unseen = relevant.some((e) => !knownGroups.has(groupOf(e)) || (e.categoryId !== null && !knownCategories.has(e.categoryId)));
+  if (unseen) return { rebuilt: true };
+  const range = currentDateRange(db, live.spec);
+  const cube = live.mix.cube;
+  if (!range || dayNumber(range.first) !== cube.firstDay || dayNumber(range.last) < cube.firstDay + cube.days - 1) {
+    return { rebuilt: true };
+  }
+  extendTo(live, dayNumber(range.last));
+  const tallyDays = new Set(relevant.filter((e) => e.table === "tally").map((e) => e.day));
+  const unitDays = new Set(relevant.filter((e) => e.table === "units").map((e) => e.day));
+  reload(db, live, tallyDays, unitDays);
+  const mixWindows = covering(live.mix, tallyDays);
+  const rateWindows = covering(live.mix, new Set([...tallyDays, ...unitDays]));
+  for (const [lo, hi] of ranges(mixWindows)) retestWindows(live.mix, lo, hi);
+  for (const [lo, hi] of ranges(rateWindows)) retestRates(live.rates, lo, hi);
+  return { rebuilt: false, retested: [...rateWindows].sort((a, b) => a - b) };
+}
+
+function reload(db: Database.Database, live: LiveScan, tallyDays: Set<number>, unitDays: Set<number>): void {
+  if (tallyDays.size > 0) {
+    clearDays(live.mix!.cube, tallyDays);
+    addCurrentTallies(db, live.spec, live.mix!.cube, isoDates(tallyDays));
+  }
+  if (unitDays.size > 0) {
+    clearDays(live.rates!.units, unitDays);
+    addCurrentUnits(db, live.spec, live.rates!.units, isoDates(unitDays));
+  }
+}
+
+// Grows both cubes to a new last day and appends the new windows (tested with the rest).
+function extendTo(live: LiveScan, last: number): void {
+  const mix = live.mix!;
+  const rates = live.rates!;
+  const days = last - mix.cube.firstDay + 1;
+  if (days <= mix.cube.days) return;
+  const grow = (cube: Cube): Cube => {
+    const out = createCube(cube.firstDay, days, cube.groups, cube.categories);
+    out.data.set(cube.data);
+    return out;
+  };
+  const cube = grow(mix.cube);
+  const units = grow(rates.units);
+  const c = live.comparison;
+  const starts = windowStarts(cube.firstDay, last, c.windowDays, c.stepDays, mix.baselineDays);
+  const before = mix.states.length;
+  Object.assign(mix, { cube, starts });
+  Object.assign(rates, { tallies: cube, units, starts });
+  if (starts.length > before) {
+    mix.states.length = starts.length;
+    rates.states.length = starts.length;
+    retestWindows(mix, before, starts.length);
+    retestRates(rates, before, starts.length);
+  }
+}
+
+// Window indices whose current window (or baseline, for history) covers one of the days.
+function covering(scan: PreparedScan, days: Set<number>): Set<number> {
+  const out = new Set<number>();
+  const { starts, windowDays, baselineDays } = scan;
+  for (const d of days) {
+    // current covers d: s ∈ [d − w + 1, d]; baseline covers d: s ∈ [d + 1, d + baselineDays].
+    const lo = d - windowDays + 1;
+    const hi = d + baselineDays;
+    for (let k = lowerBound(starts, lo); k < starts.length && starts[k] <= hi; k++) out.add(k);
+  }
+  return out;
+}
+
+// Sorted indices → half-open runs [lo, hi), so each run is retested with one sliding sum.
+function ranges(indices: Set<number>): [number, number][] {
+  const sorted = [...indices].sort((a, b) => a - b);
+  const out: [number, number][] = [];
+  for (const k of sorted) {
+    const lastRun = out[out.length - 1];
+    if (lastRun && lastRun[1] === k) lastRun[1] = k + 1;
+    else out.push([k, k + 1]);
+  }
+  return out;
+}
+
+/** The finished result (across-window pass of both scans) of a live scan. */
+export function liveOutput(live: LiveScan): ScanOutput {
+  if (!live.mix || !live.rates) return { windows: [], episodes: [], rates: { windows: [], episodes: [] } };
+  const { windows, episodes } = finishScan(live.mix);
+  return { windows, episodes, rates: finishRates(live.rates) };
+}

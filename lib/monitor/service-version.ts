@@ -1,0 +1,101 @@
+import type Database from "better-sqlite3";
+import { dayNumberCache } from "./dates";
+
+/**
+ * How the service knows whether kept results are still true, from cheapest to dearest:
+ * 1. the connection's stamp — PRAGMA data_version (moves when another connection
+ *    commits) and total_changes() (moves when this one writes): unchanged means nothing
+ *    in the file changed, so a repeated request costs two pragma reads;
+ * 2. MAX(id) of the entry tables, O(log n): unchanged means no entry arrived;
+ * 3. only when entries arrived, COUNT(*) (a full index pass) to confirm that exactly the
+ *    new ids were added — entries are never deleted or edited in place, so anything else
+ *    means the kept state cannot be patched and the scan is rebuilt.
+ */
+
+export interface ConnectionStamp {
+  dataVersion: number;
+  totalChanges: number;
+}
+
+export function connectionStamp(db: Database.Database): ConnectionStamp {
+  return {
+    dataVersion: Number(db.pragma("data_version", { simple: true })),
+    totalChanges: Number(db.prepare("SELECT total_changes()").pluck().get()),
+  };
+}
+
+export function sameStamp(a: ConnectionStamp, b: ConnectionStamp): boolean {
+  return a.dataVersion === b.dataVersion && a.totalChanges === b.totalChanges;
+}
+
+export interface MaxIds {
+  tally: number;
+  units: number;
+}
+
+export function maxIds(db: Database.Database): MaxIds {
+  const row = db
+    .prepare("SELECT (SELECT IFNULL(MAX(id), 0) FROM TallyEntry), (SELECT IFNULL(MAX(id), 0) FROM InspectionCount)")
+    .raw()
+    .get() as [number, number];
+  return { tally: row[0], units: row[1] };
+}
+
+export function entryCounts(db: Database.Database): MaxIds {
+  const row = db
+    .prepare("SELECT (SELECT COUNT(*) FROM TallyEntry), (SELECT COUNT(*) FROM InspectionCount)")
+    .raw()
+    .get() as [number, number];
+  return { tally: row[0], units: row[1] };
+}
+
+/** An entry touched by a change: a new entry, or one a new entry supersedes. */
+export interface TouchedEntry {
+  table: "tally" | "units";
+  day: number;
+  lineId: number;
+  shiftId: number;
+  /** null for units. */
+  categoryId: number | null;
+}
+
+/** What entries newer than a version touch. */
+export interface Changes {
+  touched: TouchedEntry[];
+  /** New entries per table. */
+  added: MaxIds;
+}
+
+/**
+ * The entries with id above `since` and the entries they supersede: a correction moves a
+ * count off the old entry's date (and line, shift, category) as well as onto its own.
+ */
+export function changesSince(db: Database.Database, since: MaxIds): Changes {
+  const parseDay = dayNumberCache();
+  const changes: Changes = { touched: [], added: { tally: 0, units: 0 } };
+  const tallies = db
+    .prepare(
+      `SELECT e.productionDate, e.lineId, e.shiftId, e.categoryId, 1 FROM TallyEntry e WHERE e.id > ?
+       UNION ALL
+       SELECT s.productionDate, s.lineId, s.shiftId, s.categoryId, 0 FROM TallyEntry e JOIN TallyEntry s ON s.id = e.supersedesId WHERE e.id > ?`,
+    )
+    .raw();
+  for (const [date, lineId, shiftId, categoryId, isNew] of tallies.iterate(since.tally, since.tally) as Iterable<
+    [string, number, number, number, number]
+  >) {
+    changes.touched.push({ table: "tally", day: parseDay(date), lineId, shiftId, categoryId });
+    changes.added.tally += isNew;
+  }
+  const units = db
+    .prepare(
+      `SELECT e.productionDate, e.lineId, e.shiftId, 1 FROM InspectionCount e WHERE e.id > ?
+       UNION ALL
+       SELECT s.productionDate, s.lineId, s.shiftId, 0 FROM InspectionCount e JOIN InspectionCount s ON s.id = e.supersedesId WHERE e.id > ?`,
+    )
+    .raw();
+  for (const [date, lineId, shiftId, isNew] of units.iterate(since.units, since.units) as Iterable<[string, number, number, number]>) {
+    changes.touched.push({ table: "units", day: parseDay(date), lineId, shiftId, categoryId: null });
+    changes.added.units += isNew;
+  }
+  return changes;
+}
