@@ -1,6 +1,7 @@
 import Link from "next/link";
 import { redirect } from "next/navigation";
 import { currentUser, requirePageUser } from "@/lib/auth/guard";
+import { addDays } from "@/lib/dates";
 import { overviewData } from "@/lib/review/pages";
 import { formatDay, formatP, formatRatio, formatSigned, formatV } from "@/lib/review/format";
 import type { OverviewRow } from "@/lib/review/overview";
@@ -9,6 +10,9 @@ import "./components/review/review.css";
 
 export const dynamic = "force-dynamic";
 
+/** Episodes that ended this recently are named on a quiet overview. */
+const RECENT_DAYS = 56;
+
 export default async function OverviewPage() {
   // Operators (and badge sessions) work on the floor: send them to their page instead of a refusal.
   const me = await currentUser();
@@ -16,6 +20,9 @@ export default async function OverviewPage() {
   await requirePageUser("engineer", { path: "/" });
   const data = await overviewData();
   const flagged = data.rows.filter((r) => r.state === "flagged");
+  const recent = data.lastDate
+    ? data.rows.filter((r) => r.state !== "flagged" && r.lastEpisode && r.lastEpisode.end >= addDays(data.lastDate!, -RECENT_DAYS))
+    : [];
   return (
     <>
       <div className="page-head">
@@ -60,9 +67,24 @@ export default async function OverviewPage() {
           </ul>
         </section>
       ) : (
-        <p className="card quiet-note">
-          <StateBadge state="quiet" /> No comparison is flagged in its latest window.
-        </p>
+        <div className="card quiet-note">
+          <StateBadge state="quiet" large />
+          <div>
+            <p className="quiet-title">No comparison is flagged in its latest window.</p>
+            {recent.length ? (
+              <p className="muted">
+                Flagged in the last {RECENT_DAYS} days:{" "}
+                {recent.map((r, k) => (
+                  <span key={r.code}>
+                    {k ? "; " : ""}
+                    <Link href={`/comparisons/${encodeURIComponent(r.code)}`}>{r.name}</Link> ({r.lastEpisode!.range})
+                  </span>
+                ))}
+                .
+              </p>
+            ) : null}
+          </div>
+        </div>
       )}
 
       <section aria-labelledby="all-heading">
@@ -74,7 +96,7 @@ export default async function OverviewPage() {
                 <th scope="col">State</th>
                 <th scope="col">Comparison</th>
                 <th scope="col">Latest window</th>
-                <th scope="col" className="num">
+                <th scope="col" className="num nowrap">
                   Adj. p
                 </th>
                 <th scope="col" className="num">
@@ -113,12 +135,13 @@ function OverviewTableRow({ row: r }: { row: OverviewRow }) {
       </td>
       <td>
         <Link href={href}>{r.name}</Link>
-        <div className="muted small">{r.kind}</div>
       </td>
       <td>
         {r.latest ? (
           <>
-            <Link href={`${href}/windows/${r.latest.start}`}>{r.latest.range}</Link>
+            <Link href={`${href}/windows/${r.latest.start}`} className="nowrap-link">
+              {r.latest.range}
+            </Link>
             {r.latest.reason ? <div className="muted small">{r.latest.reason}</div> : null}
           </>
         ) : (

@@ -4,6 +4,7 @@ import { requirePageUser } from "@/lib/auth/guard";
 import { formatDay, formatNumber, formatP, formatPercent, formatRatio, formatSigned, formatV } from "@/lib/review/format";
 import { weekData } from "@/lib/review/pages";
 import type { WeekTest } from "@/lib/review/week";
+import { PrintButton } from "../components/review/print-button";
 import "../components/review/review.css";
 
 export const dynamic = "force-dynamic";
@@ -45,6 +46,7 @@ export default async function WeekPage({ searchParams }: Search) {
             <input id="week" name="week" defaultValue={r.week.label} pattern="\d{4}-W\d{2}" placeholder="2026-W47" aria-describedby="week-hint" size={10} />
           </div>
           <button type="submit">Show</button>
+          <PrintButton />
           <Link href={`/week?week=${r.previousWeek.label}`}>← {r.previousWeek.label}</Link>
           <Link href={`/week?week=${data.next.label}`}>{data.next.label} →</Link>
           <span id="week-hint" className="muted small">
@@ -203,7 +205,7 @@ export default async function WeekPage({ searchParams }: Search) {
               <th scope="col">Line</th>
               <th scope="col">{r.week.label}</th>
               <th scope="col">{r.previousWeek.label}</th>
-              <th scope="col">Timeline</th>
+              <th scope="col" className="no-print">Timeline</th>
             </tr>
           </thead>
           <tbody>
@@ -216,7 +218,7 @@ export default async function WeekPage({ searchParams }: Search) {
                 <td>
                   <TestCell t={s.previous} />
                 </td>
-                <td>
+                <td className="no-print">
                   <Link href={`/comparisons/shifts-${encodeURIComponent(s.line)}`}>rolling windows</Link>
                 </td>
               </tr>

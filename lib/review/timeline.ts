@@ -103,8 +103,9 @@ export function shapeTimeline(
     const inside = points.filter((p) => p.flagged && p.start >= e.start && p.end <= e.end);
     const x1 = inside.length ? inside[0].x : dayNumberOf(e.end);
     const x2 = inside.length ? inside[inside.length - 1].x : dayNumberOf(e.end);
+    // A one-window episode still gets a visible band, one day wide.
     return {
-      x1,
+      x1: x2 === x1 ? x1 - 0.5 : x1,
       x2: x2 === x1 ? x1 + 0.5 : x2,
       start: e.start,
       end: e.end,

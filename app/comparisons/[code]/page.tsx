@@ -75,8 +75,8 @@ export default async function TimelinePage({ params }: Params) {
           <RateChart groups={timeline.rate} ticks={timeline.ticks} xMin={timeline.xMin} xMax={timeline.xMax} />
           <figcaption>
             The mix test above says nothing about the rate. Here each group&apos;s defects per unit over the same windows, with u-chart limits
-            around its own average rate. Windows outside the limits:{" "}
-            {timeline.rate.map((g) => `${g.name} ${g.signals}`).join(", ")}.
+            around the window&apos;s pooled rate of all compared groups. Windows with a rate signal (rate test flagged, group outside its limits):{" "}
+            {timeline.rate.map((g) => `${g.name}: ${g.signals}`).join("; ")}.
           </figcaption>
         </figure>
       ) : null}

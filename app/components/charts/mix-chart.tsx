@@ -20,7 +20,7 @@ export function MixChart({ series, bars }: { series: MixSeries[]; bars: Record<s
         <XAxis type="number" domain={[0, 100]} ticks={[0, 25, 50, 75, 100]} tickFormatter={(v: number) => `${v}%`} tick={{ fill: CHART.axis, fontSize: 12 }} />
         <YAxis type="category" dataKey="row" width={150} tick={{ fill: CHART.axis, fontSize: 12 }} interval={0} />
         <Tooltip formatter={(v) => `${Number(v).toFixed(1)}%`} />
-        <Legend wrapperStyle={{ fontSize: 12 }} />
+        <Legend wrapperStyle={{ fontSize: 12 }} formatter={(value) => <span style={{ color: CHART.ink }}>{value}</span>} />
         {series.map((s) => (
           <Bar key={s.key} dataKey={s.key} name={s.name} stackId="mix" fill={s.colour} stroke="#ffffff" strokeWidth={1} isAnimationActive={false} />
         ))}

@@ -1,5 +1,6 @@
 /** Chart colours, matching app/globals.css (ink-blue structure, amber signal). */
 export const CHART = {
+  ink: "#1d2433",
   structure: "#23395d",
   second: "#2f6b8f",
   signal: "#9a4a00",
