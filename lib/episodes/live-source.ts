@@ -1,17 +1,20 @@
-import { getComparison, listComparisons, type ComparisonRecord } from "@/lib/db/comparisons";
 import { db } from "@/lib/db/client";
+import { ensureDefaultComparisons, listComparisons, toRecord, type ComparisonSettings } from "@/lib/db/comparisons";
+import { runComparison, windowDetail, type ComparisonWindowDetail } from "@/lib/monitor/service";
 import type { ScanWindow } from "@/lib/monitor/types";
-import { runComparison, windowTable, type WindowTable } from "@/lib/review/source";
+import { criticalValue } from "@/lib/review/critical";
 import type { EpisodeSource } from "./source";
 import type { ComparisonInfo, WindowAnalysis } from "./types";
 
 /**
- * The episode source the app uses: saved comparisons from lib/db/comparisons, scans and
- * window tables from the cached scan source the review screens use, so an episode shows
- * the same numbers as its comparison's timeline and window pages.
+ * The episode source the app uses: the scan service of lib/monitor (kept results, late
+ * entries patched in) for scans and full window analyses, and the saved comparisons of
+ * lib/db/comparisons (which creates the defaults on first use).
  */
 
-export function comparisonInfoOf(c: ComparisonRecord): ComparisonInfo {
+type SavedLike = ComparisonSettings & { id: number; code: string; compare: ComparisonInfo["compare"] };
+
+export function comparisonInfoOf(c: SavedLike): ComparisonInfo {
   return {
     id: c.id,
     code: c.code,
@@ -31,22 +34,6 @@ export function comparisonInfoOf(c: ComparisonRecord): ComparisonInfo {
       historyWeeks: c.historyWeeks,
     },
   };
-}
-
-async function record(idOrCode: number | string): Promise<ComparisonRecord | null> {
-  let code = idOrCode;
-  if (typeof idOrCode === "number") {
-    const row = await db().comparison.findUnique({ where: { id: idOrCode }, select: { code: true } });
-    if (!row) return null;
-    code = row.code;
-  }
-  return getComparison(String(code));
-}
-
-async function recordOf(info: ComparisonInfo): Promise<ComparisonRecord> {
-  const c = await record(info.code);
-  if (!c) throw new RangeError(`No saved comparison ${info.code}.`);
-  return c;
 }
 
 /** A window the scan could not test, as an analysis with empty tables. */
@@ -79,18 +66,20 @@ function untestableAnalysis(w: ScanWindow): WindowAnalysis {
   };
 }
 
-export function windowAnalysisOf(t: WindowTable): WindowAnalysis {
-  const w = t.window;
-  const a = t.analysis;
+/** A window's full analysis from the scan service. */
+export function windowAnalysisOf(d: ComparisonWindowDetail): WindowAnalysis {
+  const w = d.window;
+  const a = d.analysis;
+  if (!a || !w.testable) return untestableAnalysis(w);
   return {
     start: w.start,
     end: w.end,
     n: w.n,
-    testable: w.testable,
+    testable: true,
     reason: w.reason,
-    rows: t.rows,
-    columns: t.columns,
-    observed: t.observed,
+    rows: d.rows,
+    columns: d.columns,
+    observed: d.observed,
     expected: a.expected,
     adjustedResiduals: a.adjustedResiduals,
     contributions: a.contributions,
@@ -102,8 +91,9 @@ export function windowAnalysisOf(t: WindowTable): WindowAnalysis {
     cramersV: Number.isFinite(a.cramersV) ? a.cramersV : null,
     cramersVCorrected: w.cramersVCorrected,
     flagged: w.flagged,
-    drivers: w.drivers,
-    critical: t.critical,
+    // Cells beyond the critical value, whether or not the window flags.
+    drivers: d.drivers,
+    critical: criticalValue(a.rows, a.columns, d.comparison.alpha),
     pooled: w.pooled,
     expectedCounts: w.expectedCounts,
     monteCarlo: w.monteCarlo,
@@ -112,21 +102,20 @@ export function windowAnalysisOf(t: WindowTable): WindowAnalysis {
 
 export const liveSource: EpisodeSource = {
   async comparison(idOrCode) {
-    const c = await record(idOrCode);
-    return c ? comparisonInfoOf(c) : null;
+    await ensureDefaultComparisons();
+    const row = await db().comparison.findUnique({ where: typeof idOrCode === "number" ? { id: idOrCode } : { code: idOrCode } });
+    return row ? comparisonInfoOf(toRecord(row)) : null;
   },
   async comparisons() {
     return (await listComparisons()).map(comparisonInfoOf);
   },
   async scan(info) {
-    const run = runComparison(await recordOf(info));
+    const run = await runComparison(info.id);
+    if (!run) throw new RangeError(`No saved comparison ${info.code}.`);
     return { windows: run.windows, episodes: run.episodes };
   },
   async window(info, start) {
-    const c = await recordOf(info);
-    const table = windowTable(c, start);
-    if (table) return windowAnalysisOf(table);
-    const w = runComparison(c).windows.find((x) => x.start === start);
-    return w ? untestableAnalysis(w) : null;
+    const detail = await windowDetail(info.id, start);
+    return detail ? windowAnalysisOf(detail) : null;
   },
 };
