@@ -5,7 +5,8 @@ import { formatDay } from "./format";
 import { namesFrom, type Names } from "./names";
 import { shapeOverview } from "./overview";
 import type { ReadingRateSignal } from "./reading";
-import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable, type RateSeries } from "./source";
+import type { RateWindow } from "@/lib/monitor/types";
+import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable } from "./source";
 import { shapeTimeline } from "./timeline";
 import { lastCompleteWeek, parseIsoWeek, shapeWeek, shiftWeek, type IsoWeekRef, type WeekCounts } from "./week";
 import { shapeWindow } from "./window";
@@ -16,18 +17,18 @@ async function names(): Promise<Names> {
   return namesFrom(await loadMasterData());
 }
 
-function rateSignalsAt(rates: RateSeries | null, index: number, comparison: ComparisonRecord, n: Names): ReadingRateSignal[] {
-  if (!rates) return [];
+/** The rate signals of one window: its rate test flagged, and these groups sat outside their u-chart limits. */
+function rateSignalsOf(w: RateWindow | null, comparison: ComparisonRecord, n: Names): ReadingRateSignal[] {
+  if (!w || !w.rateFlagged) return [];
   const out: ReadingRateSignal[] = [];
-  for (const g of rates.groups) {
-    const p = rates.byGroup[g]?.[index];
-    if (!p || !p.windowFlagged || !p.outside || p.u === null || p.upper === null || p.lower === null) continue;
+  for (const g of w.groups) {
+    if (!g.outside || g.defectsPerUnit === null || g.upper === null || g.lower === null) continue;
     out.push({
-      groupName: comparison.compare === "shift" ? n.shift(g) : n.line(g),
-      rate: p.u,
-      upperLimit: p.upper,
-      lowerLimit: p.lower,
-      direction: p.outside,
+      groupName: n.row(comparison.compare, g.group, comparison.historyWeeks),
+      rate: g.defectsPerUnit,
+      upperLimit: g.upper,
+      lowerLimit: g.lower,
+      direction: g.outside,
     });
   }
   return out;
@@ -35,12 +36,12 @@ function rateSignalsAt(rates: RateSeries | null, index: number, comparison: Comp
 
 export async function overviewData() {
   const [comparisons, n] = await Promise.all([listComparisons(), names()]);
-  const inputs = comparisons.map((c) => {
-    const run = runComparison(c);
-    const rates = rateSeries(run);
-    const signals = rateSignalsAt(rates, run.windows.length - 1, c, n).map((s) => s.groupName);
-    return { comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals };
-  });
+  const inputs = [];
+  for (const c of comparisons) {
+    const run = await runComparison(c);
+    const signals = rateSignalsOf(run.rateWindows.at(-1) ?? null, c, n).map((s) => s.groupName);
+    inputs.push({ comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals });
+  }
   const last = lastDataDate();
   return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null };
 }
@@ -49,7 +50,7 @@ export async function timelineData(code: string) {
   const c = await getComparison(code);
   if (!c) return null;
   const n = await names();
-  const run = runComparison(c);
+  const run = await runComparison(c);
   const rates = rateSeries(run);
   const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates);
   const flagged = run.windows.filter((w) => w.flagged);
@@ -61,7 +62,7 @@ export async function windowData(code: string, start: string) {
   const c = await getComparison(code);
   if (!c) return null;
   const n = await names();
-  const run = runComparison(c);
+  const run = await runComparison(c);
   const index = run.windows.findIndex((w) => w.start === start);
   if (index < 0) return { comparison: c, view: null, window: null, neighbours: null };
   const w = run.windows[index];
@@ -70,10 +71,10 @@ export async function windowData(code: string, start: string) {
     next: index < run.windows.length - 1 ? run.windows[index + 1].start : null,
   };
   const episode = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
-  const table = windowTable(c, start);
-  if (!table) return { comparison: c, view: null, window: w, neighbours, episode };
-  const signals = rateSignalsAt(rateSeries(run), index, c, n);
-  return { comparison: c, view: shapeWindow(table, n, signals), window: w, neighbours, episode };
+  const detail = await windowTable(c, start);
+  if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode };
+  const signals = rateSignalsOf(detail.rateWindow, c, n);
+  return { comparison: c, view: shapeWindow(detail.table, n, signals), window: w, neighbours, episode };
 }
 
 function weekCounts(groupBy: "line" | "shift", week: IsoWeekRef, lines?: string[]): WeekCounts {

@@ -122,7 +122,7 @@ export function shapeTimeline(
           .map((p) => ({ x: dayNumberOf(p.end), end: p.end, u: p.u, centre: p.centre, upper: p.upper, lower: p.lower, outside: p.outside, windowFlagged: p.windowFlagged }));
         return {
           code: g,
-          name: c.compare === "shift" ? names.shift(g) : names.line(g),
+          name: names.row(c.compare, g, c.historyWeeks),
           points: pts,
           signals: pts.filter((p) => p.outside !== null && p.windowFlagged).length,
         };

@@ -1,0 +1,219 @@
+// npm run bench:pages — server render time of the review pages and time to an
+// interactive chart in Chromium, on a plant of 2 years × 12 lines × 25 categories × 3
+// shifts. Not a timed test: it prints figures beside the targets.
+//
+// Needs the production build in .next-review (LINEMIX_DIST_DIR=.next-review npx next build)
+// and Chromium at /usr/bin/chromium (CHROMIUM_PATH to override).
+import { spawn, type ChildProcess } from "node:child_process";
+import { existsSync, mkdtempSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import path from "node:path";
+import { chromium } from "playwright-core";
+
+const DIST = process.env.LINEMIX_DIST_DIR ?? ".next-review";
+const PORT = Number(process.env.BENCH_PORT ?? 3251);
+const N = Number(process.env.BENCH_REQUESTS ?? 20);
+const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
+const DAYS = 730;
+const LINES = 12;
+const SHIFTS = 3;
+const CATEGORIES = 25;
+const SERVER_TARGET_MS = 300;
+const CHART_TARGET_MS = 1000;
+
+if (!existsSync(path.join(DIST, "BUILD_ID"))) {
+  console.error(`No build in ${DIST}: run LINEMIX_DIST_DIR=${DIST} npx next build first.`);
+  process.exit(1);
+}
+
+const dir = mkdtempSync(path.join(tmpdir(), "linemix-bench-pages-"));
+const url = `file:${path.join(dir, "bench.db")}`;
+process.env.DATABASE_URL = url;
+
+const { applyPendingMigrations } = await import("../../lib/db/migrate");
+const { openSqlite, closeDb } = await import("../../lib/db/client");
+const { addDays, localToday } = await import("../../lib/dates");
+const { seedDemoAccounts } = await import("../../lib/auth/demo-accounts");
+const { createSession } = await import("../../lib/auth/sessions");
+const { SESSION_COOKIE } = await import("../../lib/auth/constants");
+
+/** Small deterministic generator (mulberry32) and a Poisson draw good enough for counts. */
+function rng(seed: number) {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+function poisson(u: () => number, mean: number): number {
+  if (mean > 30) return Math.max(0, Math.round(mean + Math.sqrt(mean) * Math.sqrt(-2 * Math.log(u() || 1e-12)) * Math.cos(2 * Math.PI * u())));
+  const limit = Math.exp(-mean);
+  let k = 0;
+  let p = u();
+  while (p > limit) {
+    k++;
+    p *= u();
+  }
+  return k;
+}
+
+function buildPlant(): { lastDay: string; tallies: number } {
+  const sqlite = openSqlite(url);
+  const lastDay = addDays(localToday(), -1);
+  const firstDay = addDays(lastDay, -(DAYS - 1));
+  const u = rng(20261201);
+  let tallies = 0;
+  sqlite.transaction(() => {
+    const line = sqlite.prepare("INSERT INTO Line (code, name, displayOrder) VALUES (?, ?, ?)");
+    const shift = sqlite.prepare("INSERT INTO Shift (code, name, startTime, endTime, displayOrder) VALUES (?, ?, ?, ?, ?)");
+    const category = sqlite.prepare("INSERT INTO DefectCategory (code, name, family, displayOrder) VALUES (?, ?, ?, ?)");
+    for (let i = 1; i <= LINES; i++) line.run(`L${String(i).padStart(2, "0")}`, `Line ${i}`, i);
+    ["A", "B", "C"].forEach((s, i) => shift.run(s, `Shift ${s}`, ["06:00", "14:00", "22:00"][i], ["14:00", "22:00", "06:00"][i], i));
+    for (let j = 1; j <= CATEGORIES; j++) category.run(`K${String(j).padStart(2, "0")}`, `Category ${j}`, `family-${j % 5}`, j);
+    const ids = (table: string) => (sqlite.prepare(`SELECT id FROM ${table} ORDER BY displayOrder`).all() as { id: number }[]).map((r) => r.id);
+    const lineIds = ids("Line");
+    const shiftIds = ids("Shift");
+    const categoryIds = ids("DefectCategory");
+    const weights = categoryIds.map((_, j) => 1 / (j + 2));
+    const total = weights.reduce((s, w) => s + w, 0);
+    const tally = sqlite.prepare(
+      `INSERT INTO TallyEntry (productionDate, shiftId, lineId, categoryId, count, source, enteredByName, idempotencyKey)
+       VALUES (?, ?, ?, ?, ?, 'import', 'bench', ?)`,
+    );
+    const units = sqlite.prepare(
+      `INSERT INTO InspectionCount (productionDate, shiftId, lineId, units, source, enteredByName, idempotencyKey)
+       VALUES (?, ?, ?, ?, 'import', 'bench', ?)`,
+    );
+    for (let d = 0; d < DAYS; d++) {
+      const date = addDays(firstDay, d);
+      const back = DAYS - 1 - d;
+      for (let l = 0; l < LINES; l++) {
+        for (let s = 0; s < SHIFTS; s++) {
+          units.run(date, shiftIds[s], lineIds[l], 8000 + Math.floor(u() * 2000), `b:u:${date}:${l}:${s}`);
+          for (let k = 0; k < CATEGORIES; k++) {
+            // A planted mix change: line 7, category 5, for 14 days about a month back.
+            const factor = l === 6 && k === 4 && back <= 40 && back > 26 ? 3 : 1;
+            const count = poisson(u, (30 * weights[k] * factor) / total);
+            tally.run(date, shiftIds[s], lineIds[l], categoryIds[k], count, `b:t:${date}:${l}:${s}:${k}`);
+            tallies++;
+          }
+        }
+      }
+    }
+  })();
+  sqlite.close();
+  return { lastDay, tallies };
+}
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)];
+}
+
+function p95(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.ceil(0.95 * s.length) - 1)];
+}
+
+async function waitForHealth(base: string, server: ChildProcess): Promise<void> {
+  const until = Date.now() + 120_000;
+  while (Date.now() < until) {
+    if (server.exitCode !== null) throw new Error(`server exited with ${server.exitCode}`);
+    try {
+      const r = await fetch(`${base}/api/health`);
+      if (r.ok) return;
+    } catch {
+      // not up yet
+    }
+    await new Promise((r) => setTimeout(r, 300));
+  }
+  throw new Error("server did not come up within 120 s");
+}
+
+async function timeGet(base: string, route: string, cookie: string): Promise<number> {
+  const t = performance.now();
+  const r = await fetch(`${base}${route}`, { headers: { cookie }, redirect: "manual" });
+  const body = await r.text();
+  const ms = performance.now() - t;
+  if (r.status !== 200) throw new Error(`${route}: HTTP ${r.status} ${body.slice(0, 200)}`);
+  return ms;
+}
+
+let server: ChildProcess | null = null;
+try {
+  await applyPendingMigrations(url);
+  const t0 = performance.now();
+  const { lastDay, tallies } = buildPlant();
+  console.log(`plant: ${DAYS} days × ${LINES} lines × ${SHIFTS} shifts × ${CATEGORIES} categories = ${tallies.toLocaleString("en")} tallies, built in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+
+  const sqlite = openSqlite(url);
+  await seedDemoAccounts(sqlite);
+  const engineer = sqlite.prepare("SELECT id FROM User WHERE username = 'engineer'").get() as { id: number };
+  sqlite.close();
+  const { token } = await createSession(engineer.id, "password");
+  await closeDb();
+  const cookie = `${SESSION_COOKIE}=${token}`;
+
+  server = spawn("npx", ["tsx", "lib/cli/start.ts"], {
+    env: { ...process.env, DATABASE_URL: url, PORT: String(PORT), LINEMIX_DIST_DIR: DIST, NEXT_TELEMETRY_DISABLED: "1" },
+    stdio: ["ignore", "ignore", "inherit"],
+    detached: true,
+  });
+  const base = `http://127.0.0.1:${PORT}`;
+  await waitForHealth(base, server);
+
+  const windowStart = addDays(lastDay, -35);
+  const routes = [
+    { name: "overview", route: "/", target: SERVER_TARGET_MS },
+    { name: "window", route: `/comparisons/lines/windows/${windowStart}`, target: SERVER_TARGET_MS },
+    { name: "timeline", route: "/comparisons/lines", target: null },
+    { name: "weekly review", route: "/week", target: null },
+  ];
+  console.log(`\nserver render (fetch of the full HTML), ${N} requests each after one warm-up`);
+  console.log("page            cold ms   median ms   p95 ms   target");
+  for (const r of routes) {
+    const cold = await timeGet(base, r.route, cookie);
+    const times: number[] = [];
+    for (let i = 0; i < N; i++) times.push(await timeGet(base, r.route, cookie));
+    const ok = r.target === null ? "" : median(times) <= r.target ? `≤ ${r.target} ✓` : `≤ ${r.target} ✗`;
+    console.log(`${r.name.padEnd(15)} ${cold.toFixed(0).padStart(7)} ${median(times).toFixed(0).padStart(11)} ${p95(times).toFixed(0).padStart(8)}   ${ok}`);
+  }
+
+  const browser = await chromium.launch({
+    executablePath: CHROMIUM,
+    args: ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run"],
+  });
+  try {
+    const context = await browser.newContext({ viewport: { width: 1366, height: 900 } });
+    await context.addCookies([{ name: SESSION_COOKIE, value: token, url: base }]);
+    const page = await context.newPage();
+    console.log(`\nChromium: navigation start → first chart SVG drawn (5 loads each, after one warm-up)`);
+    console.log("page            median ms   max ms   target");
+    for (const r of [routes[2], routes[1]]) {
+      const times: number[] = [];
+      for (let i = 0; i < 6; i++) {
+        const t = Date.now();
+        await page.goto(`${base}${r.route}`, { waitUntil: "commit" });
+        await page.waitForSelector("[data-chart] svg.recharts-surface", { state: "attached", timeout: 30_000 });
+        if (i > 0) times.push(Date.now() - t);
+      }
+      const ok = median(times) <= CHART_TARGET_MS ? `≤ ${CHART_TARGET_MS} ✓` : `≤ ${CHART_TARGET_MS} ✗`;
+      console.log(`${r.name.padEnd(15)} ${median(times).toFixed(0).padStart(9)} ${Math.max(...times).toFixed(0).padStart(8)}   ${ok}`);
+    }
+  } finally {
+    await browser.close();
+  }
+} finally {
+  if (server?.pid) {
+    try {
+      process.kill(-server.pid, "SIGTERM");
+    } catch {
+      // already gone
+    }
+  }
+  rmSync(dir, { recursive: true, force: true });
+}
