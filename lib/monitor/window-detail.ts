@@ -2,7 +2,7 @@ import { tableDrivers } from "./drivers";
 import { forEachWindowTable, type PreparedScan } from "./engine";
 import { isoDate } from "./dates";
 import type { PreparedRates } from "./rates";
-import { analyzeTable, type TableAnalysis } from "./stats";
+import { analyzeTable, driverCritical, type TableAnalysis } from "./stats";
 import type { Driver, RateWindow, ScanWindow } from "./types";
 import { testWindow, type WindowState } from "./window-test";
 
@@ -17,7 +17,9 @@ export interface WindowDetail {
   observed: number[][];
   /** lib/stats analyzeTable of the tested table: expected, residuals, contributions, G², p, V, expected-count check. */
   analysis: TableAnalysis | null;
-  /** Cells beyond the Bonferroni critical value at the comparison's α, flagged or not. */
+  /** Bonferroni two-sided critical |adjusted residual| for the table's r·c cells at the comparison's α. */
+  critical: number | null;
+  /** Cells beyond that critical value, flagged or not. */
   drivers: Driver[];
   /** Defects per unit per group, with the rate test and u-chart limits; null when the scan has no units. */
   rates: RateWindow | null;
@@ -50,6 +52,7 @@ export function windowDetailOf(
     columns: tested.columnLabels,
     observed: table ?? [],
     analysis: table ? analyzeTable(table) : null,
+    critical: table ? driverCritical(table.length, table[0].length, scan.test.alpha) : null,
     drivers: table ? tableDrivers(table, tested.rowLabels, tested.columnLabels, scan.test.alpha) : [],
     rates: rates ? rates.states[k] : null,
   };
