@@ -5,7 +5,7 @@
 import { createReadStream, statSync } from "node:fs";
 import path from "node:path";
 import { closeDb, rawDb } from "../db/client";
-import { applyPendingMigrations } from "../db/migrate";
+import { applyMigrationsIfPending } from "../intake/migrations";
 import { cliActor } from "../intake/actor";
 import { formatProblem } from "../intake/csv-read";
 import { importCsv, type ImportOutcome } from "../intake/import";
@@ -53,7 +53,7 @@ async function main(): Promise<number> {
     fail(`${file}: no such file`);
   }
 
-  await applyPendingMigrations();
+  await applyMigrationsIfPending();
   const outcome = await importCsv(createReadStream(file), {
     actor: cliActor(),
     fileName: path.basename(file),

@@ -97,13 +97,14 @@ function createMissing(sqlite: Database.Database, actor: Actor, kind: MasterKind
   let id: number;
   let after: Record<string, unknown>;
   if (kind === "shift") {
-    // Clock times are unknown: 00:00–00:00 until someone sets them in Setup.
+    // Clock times are unknown, so the shift is created retired (history can use it, the
+    // floor sheet cannot) until an admin sets its times and activates it in Setup.
     id = Number(
       sqlite
-        .prepare("INSERT INTO Shift (code, name, startTime, endTime, displayOrder, createdAt) VALUES (?, ?, '00:00', '00:00', (SELECT COALESCE(MAX(displayOrder), -1) + 1 FROM Shift), ?)")
+        .prepare("INSERT INTO Shift (code, name, startTime, endTime, active, displayOrder, createdAt) VALUES (?, ?, '00:00', '00:00', 0, (SELECT COALESCE(MAX(displayOrder), -1) + 1 FROM Shift), ?)")
         .run(code, code, stamp).lastInsertRowid,
     );
-    after = { code, name: code, startTime: "00:00", endTime: "00:00", active: true };
+    after = { code, name: code, startTime: "00:00", endTime: "00:00", active: false };
   } else if (kind === "product") {
     id = Number(sqlite.prepare("INSERT INTO Product (code, name, createdAt) VALUES (?, ?, ?)").run(code, code, stamp).lastInsertRowid);
     after = { code, name: code, active: true };

@@ -36,6 +36,7 @@ export class Resolver {
     problems: FieldProblem[],
     row: number | null,
     field: string,
+    allowRetired = false,
   ): number {
     const map = kind === "line" ? this.lines : kind === "shift" ? this.shifts : kind === "category" ? this.categories : this.products;
     const found = map.get(code);
@@ -43,7 +44,7 @@ export class Resolver {
       problems.push({ row, field, message: `unknown ${kind} "${code}"` });
       return 0;
     }
-    if (!found.active) {
+    if (!found.active && !allowRetired) {
       problems.push({ row, field, message: `${kind} "${code}" is retired; new counts cannot be recorded for it` });
       return 0;
     }
@@ -167,11 +168,13 @@ export function correctionPermission(
 export function planFloorSheet(sqlite: Database.Database, actor: Actor, sheet: FloorSheet, now: Date): Plan | Refusal {
   const r = new Resolver(sqlite);
   const problems: FieldProblem[] = [];
-  const shiftId = r.resolve("shift", sheet.shift, problems, null, "shift");
-  const lineId = r.resolve("line", sheet.line, problems, null, "line");
-  const productId = sheet.product ? r.resolve("product", sheet.product, problems, null, "product") : null;
+  // A correction may touch what was recorded for codes retired since; new counts may not.
+  const correcting = sheet.mode === "correct";
+  const shiftId = r.resolve("shift", sheet.shift, problems, null, "shift", correcting);
+  const lineId = r.resolve("line", sheet.line, problems, null, "line", correcting);
+  const productId = sheet.product ? r.resolve("product", sheet.product, problems, null, "product", correcting) : null;
   if (sheet.date > localToday(now)) problems.push({ row: null, field: "date", message: `${sheet.date} is in the future` });
-  const categoryIds = sheet.counts.map((c, i) => r.resolve("category", c.category, problems, i, "category"));
+  const categoryIds = sheet.counts.map((c, i) => r.resolve("category", c.category, problems, i, "category", correcting));
   if (problems.length) return { status: "invalid", problems };
 
   const ref: SheetRef = { date: sheet.date, shiftId, lineId };
@@ -211,7 +214,9 @@ export function planFloorSheet(sqlite: Database.Database, actor: Actor, sheet: F
   sheet.counts.forEach((c, i) => {
     const entries = currentTallies(sqlite, ref, categoryIds[i]);
     if (entries.length === 0) {
-      if (c.count > 0) tallies.push({ ...base, categoryId: categoryIds[i], productId, count: c.count, note, source: "floor" });
+      if (c.count > 0 && !r.categories.get(c.category)?.active) {
+        refusals.push(`${c.category}: the category is retired; new counts cannot be recorded for it.`);
+      } else if (c.count > 0) tallies.push({ ...base, categoryId: categoryIds[i], productId, count: c.count, note, source: "floor" });
       return;
     }
     for (const change of minimalCorrection(entries, c.count)) {
