@@ -236,9 +236,9 @@ export default async function EpisodePage({ params, searchParams }: { params: Pa
           Workflow: new → under investigation → explained, no action, or false alarm. A closed period can be reopened. Every
           change keeps a snapshot of the analysis as it stood.
         </p>
-        <StatusForm key={`status-${e.status}`} id={e.id} options={statusOptions} />
-        <OwnerForm key={`owner-${e.owner?.id ?? "none"}`} id={e.id} ownerId={e.owner?.id ?? null} owners={owners} />
-        <ActionRefsForm key={`refs-${e.actionRefs ?? ""}`} id={e.id} actionRefs={e.actionRefs} />
+        <StatusForm id={e.id} options={statusOptions} />
+        <OwnerForm id={e.id} ownerId={e.owner?.id ?? null} owners={owners} />
+        <ActionRefsForm id={e.id} actionRefs={e.actionRefs} />
       </section>
 
       <section className="card" aria-labelledby="notes-heading">

@@ -16,13 +16,15 @@ function Result({ state }: { state: EpisodeActionResult | null }) {
 /** Next status (only the allowed ones) and the reason, which decisions require. */
 export function StatusForm({ id, options }: { id: number; options: Option[] }) {
   const [state, action, pending] = useActionState(changeStatusAction, null);
-  const [choice, setChoice] = useState(options[0]?.value ?? "");
+  const [picked, setChoice] = useState(options[0]?.value ?? "");
   const form = useRef<HTMLFormElement>(null);
   useEffect(() => {
     if (state?.ok) form.current?.reset();
   }, [state]);
-  if (options.length === 0) return <p className="muted">No status change is possible from here.</p>;
+  // After a change the allowed next statuses are new: fall back to the first of them.
+  const choice = options.some((o) => o.value === picked) ? picked : (options[0]?.value ?? "");
   const required = options.find((o) => o.value === choice)?.reasonRequired ?? true;
+  if (options.length === 0) return <p className="muted">No status change is possible from here.</p>;
   return (
     <form action={action} ref={form} className="episode-form">
       <input type="hidden" name="id" value={id} />
