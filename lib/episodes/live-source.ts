@@ -2,7 +2,6 @@ import { db } from "@/lib/db/client";
 import { ensureDefaultComparisons, listComparisons, toRecord, type ComparisonSettings } from "@/lib/db/comparisons";
 import { runComparison, windowDetail, type ComparisonWindowDetail } from "@/lib/monitor/service";
 import type { ScanWindow } from "@/lib/monitor/types";
-import { criticalValue } from "@/lib/review/critical";
 import type { EpisodeSource } from "./source";
 import type { ComparisonInfo, WindowAnalysis } from "./types";
 
@@ -93,7 +92,7 @@ export function windowAnalysisOf(d: ComparisonWindowDetail): WindowAnalysis {
     flagged: w.flagged,
     // Cells beyond the critical value, whether or not the window flags.
     drivers: d.drivers,
-    critical: criticalValue(a.rows, a.columns, d.comparison.alpha),
+    critical: d.critical,
     pooled: w.pooled,
     expectedCounts: w.expectedCounts,
     monteCarlo: w.monteCarlo,
