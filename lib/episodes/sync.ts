@@ -38,8 +38,12 @@ interface RecordRow {
   windows: number;
   minAdjustedP: number;
   drivers: string;
+  lastSeenAt: Date;
   goneAt: Date | null;
 }
+
+/** An unchanged record's lastSeenAt is refreshed at most this often, so page views are not writes. */
+export const LAST_SEEN_REFRESH_MS = 10 * 60_000;
 
 // One sync at a time in this process: two page loads must not both create a record.
 let queue: Promise<unknown> = Promise.resolve();
@@ -102,7 +106,18 @@ async function syncNow(source: EpisodeSource, comparison: ComparisonInfo, scan: 
   const summary: SyncSummary = { comparison: comparison.code, created: [], updated: [], gone: [], revived: [], unchanged: [] };
   const records: RecordRow[] = await db().episode.findMany({
     where: { comparisonId: comparison.id },
-    select: { id: true, start: true, end: true, peakStart: true, peakEnd: true, windows: true, minAdjustedP: true, drivers: true, goneAt: true },
+    select: {
+      id: true,
+      start: true,
+      end: true,
+      peakStart: true,
+      peakEnd: true,
+      windows: true,
+      minAdjustedP: true,
+      drivers: true,
+      lastSeenAt: true,
+      goneAt: true,
+    },
   });
   const scanned = [...scan.episodes].sort((a, b) => (a.start < b.start ? -1 : a.start > b.start ? 1 : 0));
   const matches = matchEpisodes(scanned, records);
@@ -134,7 +149,10 @@ async function syncNow(source: EpisodeSource, comparison: ComparisonInfo, scan: 
       }
       matched.add(record.id);
       const changed = !sameFields(record, f);
-      await tx.episode.update({ where: { id: record.id }, data: { ...f, lastSeenAt: now, goneAt: null } });
+      const stale = now.getTime() - record.lastSeenAt.getTime() >= LAST_SEEN_REFRESH_MS;
+      if (changed || record.goneAt || stale) {
+        await tx.episode.update({ where: { id: record.id }, data: { ...f, lastSeenAt: now, goneAt: null } });
+      }
       if (record.goneAt) {
         summary.revived.push(record.id);
         await writeAudit(

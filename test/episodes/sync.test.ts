@@ -46,7 +46,10 @@ describe("syncing episode records with the scan", () => {
 
   it("is idempotent: a second sync of the same scan changes nothing", async () => {
     const before = await db().auditEvent.count();
+    const row = await db().episode.findUniqueOrThrow({ where: { id: firstId } });
     const summary = await syncComparison(liveSource, "lines");
+    // Not even lastSeenAt is rewritten within the refresh interval: viewing a page is not a write.
+    expect((await db().episode.findUniqueOrThrow({ where: { id: firstId } })).updatedAt).toEqual(row.updatedAt);
     expect(summary).toMatchObject({ created: [], updated: [], gone: [], unchanged: [firstId] });
     expect(await db().episode.count()).toBe(1);
     expect(await db().auditEvent.count()).toBe(before);
