@@ -1,5 +1,7 @@
 import { getComparison, listComparisons, type ComparisonRecord } from "@/lib/db/comparisons";
+import { listEpisodes } from "@/lib/db/episodes";
 import { loadMasterData } from "@/lib/db/plant";
+import type { Episode } from "@/lib/monitor/types";
 import { localToday } from "@/lib/dates";
 import { formatDay } from "./format";
 import { namesFrom, type Names } from "./names";
@@ -34,6 +36,20 @@ function rateSignalsOf(w: RateWindow | null, comparison: ComparisonRecord, n: Na
   return out;
 }
 
+/**
+ * Where each scanned episode's record lives: /episodes/<id> when the flagged-period
+ * records already hold one overlapping it, else the comparison's list (which syncs).
+ */
+export async function episodeHrefs(code: string, episodes: readonly Episode[]): Promise<Map<string, string>> {
+  const records = episodes.length ? await listEpisodes({ comparison: code }) : [];
+  const out = new Map<string, string>();
+  for (const e of episodes) {
+    const record = records.find((r) => r.start <= e.end && r.end >= e.start);
+    out.set(e.start, record ? `/episodes/${record.id}` : `/episodes?comparison=${encodeURIComponent(code)}`);
+  }
+  return out;
+}
+
 export async function overviewData() {
   const [comparisons, n] = await Promise.all([listComparisons(), names()]);
   const inputs = [];
@@ -55,7 +71,8 @@ export async function timelineData(code: string) {
   const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates);
   const flagged = run.windows.filter((w) => w.flagged);
   const recent = run.windows.slice(-14).reverse();
-  return { comparison: c, timeline, episodes: run.episodes, flagged, recent, windows: run.windows, names: n };
+  const hrefs = await episodeHrefs(c.code, run.episodes);
+  return { comparison: c, timeline, episodes: run.episodes, episodeHrefs: hrefs, flagged, recent, windows: run.windows, names: n };
 }
 
 export async function windowData(code: string, start: string) {
@@ -70,7 +87,8 @@ export async function windowData(code: string, start: string) {
     previous: index > 0 ? run.windows[index - 1].start : null,
     next: index < run.windows.length - 1 ? run.windows[index + 1].start : null,
   };
-  const episode = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
+  const found = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
+  const episode = found ? { start: found.start, end: found.end, href: (await episodeHrefs(c.code, [found])).get(found.start)! } : null;
   const detail = await windowTable(c, start);
   if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode };
   const signals = rateSignalsOf(detail.rateWindow, c, n);

@@ -36,19 +36,26 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   await expect(lines.locator("td").last()).not.toHaveText("0");
   await shot(page, "overview");
 
+  // The flagged-period records are made when their list is opened; after that the timeline links to the record.
+  await page.goto("/episodes?comparison=lines");
+  await expect(page.getByRole("heading", { level: 1, name: "Flagged periods" })).toBeVisible();
+  await page.goto("/");
   await lines.getByRole("link", { name: "All lines compared" }).click();
   await expect(page).toHaveURL(/\/comparisons\/lines$/);
   await expect(page.getByRole("heading", { level: 1, name: "All lines compared" })).toBeVisible();
   await expect(page.locator('[data-chart="timeline"] svg').first()).toBeVisible();
   const episode = page.locator("tr[data-episode]").filter({ hasText: "Press line 3 × Seal leak" });
   await expect(episode).toHaveCount(1);
-  await expect(episode.getByRole("link", { name: "Flagged-period record" })).toHaveAttribute("href", "/episodes?comparison=lines");
+  await expect(episode.getByRole("link", { name: "Flagged-period record" })).toHaveAttribute("href", /^\/episodes\/\d+$/);
   // The episode sits where the story was planted (window starts within the story ± one window).
   const start = (await episode.getAttribute("data-episode"))!;
   const last = addDays(localToday(), -1);
   expect(start >= addDays(last, -DEMO_STORIES.mix.startDaysBack - 7)).toBe(true);
   expect(start <= addDays(last, -DEMO_STORIES.mix.startDaysBack + DEMO_STORIES.mix.lengthDays)).toBe(true);
   await shot(page, "timeline");
+  await episode.getByRole("link", { name: "Flagged-period record" }).click();
+  await expect(page.getByRole("heading", { level: 1, name: /Flagged period #\d+: All lines compared/ })).toBeVisible();
+  await page.goBack();
 
   await episode.locator("td").nth(2).getByRole("link").click();
   await expect(page).toHaveURL(/\/comparisons\/lines\/windows\/\d{4}-\d{2}-\d{2}$/);

@@ -113,7 +113,7 @@ export default async function TimelinePage({ params }: Params) {
                       ))}
                     </td>
                     <td>
-                      <Link href={`/episodes?comparison=${encodeURIComponent(c.code)}`}>Flagged-period record</Link>
+                      <Link href={data.episodeHrefs.get(e.start) ?? `/episodes?comparison=${encodeURIComponent(c.code)}`}>Flagged-period record</Link>
                     </td>
                   </tr>
                 ))}

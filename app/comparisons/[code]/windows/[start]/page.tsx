@@ -54,7 +54,7 @@ export default async function WindowPage({ params }: Params) {
       {data.neighbours?.next ? <Link href={`${base}/windows/${data.neighbours.next}`}>Next window →</Link> : null}
       <Link href={base}>Timeline</Link>
       {data.episode ? (
-        <Link href={`/episodes?comparison=${encodeURIComponent(c.code)}`}>Episode {formatRange(data.episode.start, data.episode.end)}: record</Link>
+        <Link href={data.episode.href}>Episode {formatRange(data.episode.start, data.episode.end)}: record</Link>
       ) : null}
     </nav>
   );
