@@ -373,7 +373,8 @@ export async function readImportFile(source: Source, lookup: CodeLookup, options
     parser.on("data", onRecord);
     parser.on("error", (error: CsvError) => {
       const code = error.code ?? "";
-      const line = code === "CSV_QUOTE_NOT_CLOSED" ? nextLine : typeof error.lines === "number" ? error.lines : nextLine;
+      // The line where the broken row starts (csv-parse's own count is off for CRLF inside quotes).
+      const line = nextLine;
       problem(line, `${CSV_MESSAGES[code] ?? error.message.replace(/ at line \d+.*$/, "")}; the rest of the file was not read`);
       input.unpipe(parser);
       // Keep hashing the remaining bytes so the content hash is of the whole file.
