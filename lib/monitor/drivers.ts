@@ -12,7 +12,8 @@ import type { Driver } from "./types";
  * Cost: one analyzeTable, O(r·c), plus a sort of the driving cells.
  *
  * @example
- * tableDrivers([[90, 10], [50, 50]], ["L1", "L2"], ["A", "B"], 0.05)[0]; // { row: "L1", category: "B", observed: 10, adjustedResidual: -6.32…, … }
+ * tableDrivers([[90, 10], [50, 50]], ["L1", "L2"], ["A", "B"], 0.05)[0];
+ * // { row: "L2", category: "B", observed: 50, expected: 30, ratio: 1.67, adjustedResidual: 6.172…, contribution: 0.35 }
  */
 export function tableDrivers(table: number[][], rows: string[], columns: string[], alpha: number): Driver[] {
   const a = analyzeTable(table);
@@ -35,6 +36,17 @@ export function tableDrivers(table: number[][], rows: string[], columns: string[
       });
     }
   }
-  // Ties broken by position so the order never depends on the sort's stability.
-  return out.sort((x, y) => Math.abs(y.adjustedResidual) - Math.abs(x.adjustedResidual));
+  // Equal residuals (mirrored cells) then by share of X²: the bigger cell tells more.
+  return out.sort((x, y) => byMagnitudeThenExcess(x.adjustedResidual, y.adjustedResidual) || y.contribution - x.contribution);
+}
+
+/**
+ * Order of residuals: larger |r| first; equal magnitudes (a 2-row table mirrors every
+ * residual, up to rounding) put the excess (r > 0) first, since "more than expected" is
+ * where a root-cause meeting starts.
+ */
+export function byMagnitudeThenExcess(a: number, b: number): number {
+  const d = Math.abs(b) - Math.abs(a);
+  if (Math.abs(d) > 1e-9 * Math.max(Math.abs(a), Math.abs(b))) return d;
+  return Number(b > 0) - Number(a > 0);
 }

@@ -1,3 +1,4 @@
+import { byMagnitudeThenExcess } from "./drivers";
 import { flaggedRuns, peakOf, runEnd } from "./runs";
 import type { Episode, EpisodeDriver, ScanWindow } from "./types";
 
@@ -37,7 +38,5 @@ function rankDrivers(run: ScanWindow[]): EpisodeDriver[] {
       }
     }
   }
-  return [...cells.values()].sort(
-    (a, b) => b.windows - a.windows || Math.abs(b.adjustedResidual) - Math.abs(a.adjustedResidual),
-  );
+  return [...cells.values()].sort((a, b) => b.windows - a.windows || byMagnitudeThenExcess(a.adjustedResidual, b.adjustedResidual));
 }
