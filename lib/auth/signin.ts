@@ -2,7 +2,7 @@ import { db } from "@/lib/db/client";
 import { recordAudit } from "./audit";
 import { hashPassword, needsRehash, verifyPassword } from "./password";
 import { isRole, type Role } from "./roles";
-import { createSession } from "./sessions";
+import { createSession, pruneSessions } from "./sessions";
 import {
   badgeSignInBlockedFor,
   clearPasswordFailures,
@@ -52,6 +52,7 @@ export async function passwordSignIn(input: { username: string; password: string
   if (user.passwordHash && needsRehash(user.passwordHash)) {
     await db().user.update({ where: { id: user.id }, data: { passwordHash: await hashPassword(input.password) } });
   }
+  await pruneSessions(now); // housekeeping: sessions that ended more than a day ago
   const session = await createSession(user.id, "password", now);
   await recordAudit(
     { id: user.id, name: user.username },
@@ -93,6 +94,7 @@ export async function badgeSignIn(input: { badge: string; pin: string; ip: strin
     return { ok: false, error: WRONG_PIN };
   }
   await db().user.update({ where: { id: user.id }, data: { failedPins: 0, pinLockedUntil: null } });
+  await pruneSessions(now);
   const session = await createSession(user.id, "badge", now);
   await recordAudit(
     { id: user.id, name: user.username },
