@@ -17,6 +17,8 @@ export type ImportOptions = {
   dryRun?: boolean;
   addMissing?: boolean;
   force?: boolean;
+  /** Write only when the bytes hash to this (the file that was previewed). */
+  expectedHash?: string | null;
   /** The connection to write on (default rawDb()). */
   sqlite?: Database.Database;
 };
@@ -163,6 +165,10 @@ export async function importCsv(
     elapsedMs: { read: Math.round(t1 - t0), write: 0 },
   };
 
+  if (options.expectedHash && options.expectedHash !== read.contentHash) {
+    outcome.problems = [{ line: null, message: "the file changed since it was checked; check it again before importing" }, ...outcome.problems];
+    return outcome;
+  }
   const previous = read.contentHash ? findPreviousImport(sqlite, read.contentHash) : null;
   outcome.duplicateOf = previous;
   if (previous && !options.force) outcome.problems = [duplicateProblem(previous), ...outcome.problems];

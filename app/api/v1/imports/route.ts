@@ -1,0 +1,12 @@
+import { authenticateApi } from "@/lib/auth/guard";
+import { withErrorHandling } from "@/lib/http/errors";
+import { postImport } from "@/lib/intake/import-http";
+
+export const dynamic = "force-dynamic";
+
+/** CSV upload from the import page: ?dryRun=1 previews; ?expect=<sha256> imports the previewed bytes. */
+export const POST = withErrorHandling(async (request: Request) => {
+  const principal = await authenticateApi(request, "tallies:write");
+  if (principal instanceof Response) return principal;
+  return postImport(request, principal);
+});

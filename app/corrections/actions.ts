@@ -1,0 +1,43 @@
+"use server";
+
+import { revalidatePath } from "next/cache";
+import { requireActionUser } from "@/lib/auth/guard";
+import { authFailure, type ActionResult } from "@/lib/http/action-result";
+import { actorFromPrincipal } from "@/lib/intake/actor";
+import { correctEntry } from "@/lib/intake/corrections";
+import { formatFieldProblem } from "@/lib/intake/schemas";
+
+/** Corrects one entry: a new entry supersedes it with the reason (never an edit in place). */
+export async function correctEntryAction(_prev: ActionResult, form: FormData): Promise<ActionResult> {
+  let actor;
+  try {
+    actor = actorFromPrincipal(await requireActionUser("operator", { floor: true }));
+  } catch (error) {
+    const refused = authFailure(error);
+    if (refused) return refused;
+    throw error;
+  }
+  const outcome = correctEntry(actor, {
+    idempotencyKey: form.get("idempotencyKey"),
+    kind: form.get("kind"),
+    entryId: form.get("entryId"),
+    value: form.get("value"),
+    reason: form.get("reason") ?? "",
+  });
+  switch (outcome.status) {
+    case "created":
+      revalidatePath("/corrections");
+      revalidatePath("/entry");
+      return { ok: true, message: `Corrected (entry #${outcome.result.tallyEntryIds[0] ?? outcome.result.inspectionIds[0]}).` };
+    case "replay":
+      return { ok: true, message: "Already saved." };
+    case "invalid":
+      return { ok: false, status: 400, error: outcome.problems.map(formatFieldProblem).join("; ") };
+    case "forbidden":
+      return { ok: false, status: 403, error: outcome.message };
+    case "stale":
+    case "conflict":
+      revalidatePath("/corrections");
+      return { ok: false, status: 409, error: outcome.message };
+  }
+}
