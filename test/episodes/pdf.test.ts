@@ -7,7 +7,7 @@ import { syncComparison } from "@/lib/episodes/sync";
 import { changeEpisodeStatus } from "@/lib/episodes/workflow";
 import { useTempDatabase } from "../helpers/temp-db";
 import { PLANT, correctTally, plantedCount, seedMasterData, seedTallies, seedUsers } from "./helpers";
-import { pdfDeclaredPages, pdfPageCount, pdfText, pdfTextLines } from "./pdf-reader";
+import { pdfDeclaredPages, pdfPageCount, pdfStreams, pdfText, pdfTextLines } from "./pdf-reader";
 
 let ctx: Awaited<ReturnType<typeof useTempDatabase>>;
 let id = 0;
@@ -47,6 +47,15 @@ describe("the PDF brief", () => {
     expect(pdf.toString("latin1")).not.toContain("/Subtype /Image");
     expect(pdf.toString("latin1")).toContain("/MediaBox [0 0 595.28 841.89]");
     expect(text).toContain(`page ${pages} of ${pages}`);
+  });
+
+  it("draws the heatmap and the timeline as vector paths: a filled rectangle per heatmap cell, a polyline per timeline", () => {
+    const content = pdfStreams(pdf).join("\n");
+    const rects = (content.match(/ re\n/g) ?? []).length;
+    const lines = (content.match(/ l\n/g) ?? []).length;
+    // Heatmap: lines × categories cells (each filled and outlined), legend swatches, table shading.
+    expect(rects).toBeGreaterThan(2 * PLANT.lines.length * PLANT.categories.length + 9);
+    expect(lines).toBeGreaterThan(20);
   });
 
   it("says what was flagged, with the reading, the drivers and the tables", () => {
