@@ -45,6 +45,7 @@ export function loadSpecOf(c: SavedComparison, master: MasterData): LoadSpec {
     groupBy: c.compare === "shift" ? "shift" : "line",
     groupIds: (c.compare === "shift" ? shifts : lines).map((r) => r.id),
     categoryIds: categories.map((r) => r.id),
+    categoryFilter: c.categories === null ? null : categories.map((r) => r.id),
     lineIds: c.lines === null ? null : lines.map((r) => r.id),
     shiftIds: c.shifts === null ? null : shifts.map((r) => r.id),
   };

@@ -38,6 +38,8 @@ export interface LoadSpec {
   groupIds: number[];
   /** Category ids in cube order; entries of other categories are skipped. */
   categoryIds: number[];
+  /** The comparison's category filter as ids (null = all): filtered in SQL, not just skipped. */
+  categoryFilter: number[] | null;
   /** Filters on the entry's line and shift (null = all). */
   lineIds: number[] | null;
   shiftIds: number[] | null;
@@ -48,9 +50,16 @@ interface Filters {
   params: string[];
 }
 
-function filters(spec: LoadSpec, alias: string, withCategory: boolean, dates: string[] | null): Filters {
+// The date range is always given: besides being the cube's, a range on the leading
+// column makes SQLite walk the (productionDate, …) index, i.e. the table in roughly
+// insertion order, instead of the (lineId, productionDate) one that jumps across it.
+function filters(spec: LoadSpec, alias: string, withCategory: boolean, dates: string[] | null, range?: [string, string]): Filters {
   const parts: string[] = [];
   const params: string[] = [];
+  if (range) {
+    parts.push(`${alias}.productionDate BETWEEN ? AND ?`);
+    params.push(range[0], range[1]);
+  }
   const add = (column: string, values: readonly (string | number)[] | null) => {
     if (values === null) return;
     parts.push(`${alias}.${column} IN (SELECT value FROM json_each(?))`);
@@ -58,7 +67,7 @@ function filters(spec: LoadSpec, alias: string, withCategory: boolean, dates: st
   };
   add("lineId", spec.lineIds);
   add("shiftId", spec.shiftIds);
-  if (withCategory) add("categoryId", spec.categoryIds);
+  if (withCategory) add("categoryId", spec.categoryFilter);
   add("productionDate", dates);
   return { sql: parts.length ? parts.join(" AND ") : "1", params };
 }
@@ -120,7 +129,7 @@ export function addCurrentTallies(db: Database.Database, spec: LoadSpec, cube: C
   const add = cubeAdder(cube, spec);
   const parseDay = dayNumberCache();
   const byLine = spec.groupBy === "line";
-  const f = filters(spec, "e", true, dates);
+  const f = filters(spec, "e", true, dates, cubeRange(cube));
   const grouped = prepared(
     db,
     `SELECT e.productionDate, e.lineId, group_concat((e.count * ${ID_SPAN} + e.shiftId) * ${ID_SPAN} + e.categoryId)
@@ -155,7 +164,7 @@ export function addCurrentUnits(db: Database.Database, spec: LoadSpec, cube: Cub
   const add = cubeAdder(cube, { ...spec, categoryIds: [0] });
   const parseDay = dayNumberCache();
   const byLine = spec.groupBy === "line";
-  const f = filters(spec, "e", false, dates);
+  const f = filters(spec, "e", false, dates, cubeRange(cube));
   const grouped = prepared(
     db,
     `SELECT e.productionDate, e.lineId, group_concat(e.units * ${ID_SPAN} + e.shiftId)
@@ -178,6 +187,10 @@ export function addCurrentUnits(db: Database.Database, spec: LoadSpec, cube: Cub
   for (const [date, lineId, shiftId, units] of superseded.iterate(...s.params) as Iterable<[string, number, number, number]>) {
     add(parseDay(date), byLine ? lineId : shiftId, 0, -units);
   }
+}
+
+function cubeRange(cube: Cube): [string, string] {
+  return [isoDate(cube.firstDay), isoDate(cube.firstDay + cube.days - 1)];
 }
 
 /** Zeroes the given days of a cube (before reloading them). */
