@@ -1,6 +1,7 @@
 "use server";
 
 import { revalidatePath } from "next/cache";
+import { redirect } from "next/navigation";
 import { requireActionUser } from "@/lib/auth/guard";
 import { authFailure, type ActionResult } from "@/lib/http/action-result";
 import { actorFromPrincipal } from "@/lib/intake/actor";
@@ -25,10 +26,14 @@ export async function correctEntryAction(_prev: ActionResult, form: FormData): P
     reason: form.get("reason") ?? "",
   });
   switch (outcome.status) {
-    case "created":
+    case "created": {
       revalidatePath("/corrections");
       revalidatePath("/entry");
-      return { ok: true, message: `Corrected (entry #${outcome.result.tallyEntryIds[0] ?? outcome.result.inspectionIds[0]}).` };
+      // Back to the same sheet, naming the new entry (the row's form is replaced by the new entry's).
+      const back = String(form.get("back") ?? "");
+      const marker = outcome.result.tallyEntryIds.length ? `t${outcome.result.tallyEntryIds[0]}` : `u${outcome.result.inspectionIds[0]}`;
+      redirect(`${back.startsWith("/corrections?") ? back : "/corrections?"}&corrected=${marker}`);
+    }
     case "replay":
       return { ok: true, message: "Already saved." };
     case "invalid":

@@ -4,7 +4,7 @@ import { randomUUID } from "node:crypto";
 import { requirePageUser } from "@/lib/auth/guard";
 import { actorFromPrincipal } from "@/lib/intake/actor";
 import { SOURCE_LABELS, firstParam } from "@/lib/intake/format";
-import { correctionsPageData } from "@/lib/intake/pages";
+import { correctionsPageData, describeCorrection } from "@/lib/intake/pages";
 import { ResultForm } from "../setup/_components/result-form";
 import { correctEntryAction } from "./actions";
 
@@ -17,6 +17,7 @@ export default async function CorrectionsPage({ searchParams }: Search) {
   const me = await requirePageUser("operator", { floor: true, path: "/corrections" });
   const sp = await searchParams;
   const data = correctionsPageData({ line: firstParam(sp.line), shift: firstParam(sp.shift), date: firstParam(sp.date) }, actorFromPrincipal(me));
+  const done = describeCorrection(firstParam(sp.corrected));
   const q = data.line && data.shift ? `date=${data.date}&shift=${encodeURIComponent(data.shift.code)}&line=${encodeURIComponent(data.line.code)}` : "";
   return (
     <>
@@ -24,6 +25,13 @@ export default async function CorrectionsPage({ searchParams }: Search) {
       <p className="lede">
         A correction never changes or deletes a count: it records a new value that replaces the old one, with your name and a reason. The old value stays in the history.
       </p>
+      {done && (
+        <div className="sheet-notice sheet-notice-ok" role="status">
+          <p className="sheet-notice-title">
+            <span aria-hidden="true">✓ </span>Corrected: {done}
+          </p>
+        </div>
+      )}
       {data.problems.map((p) => (
         <p key={p} className="error-text" role="alert">
           {p}
@@ -112,6 +120,7 @@ export default async function CorrectionsPage({ searchParams }: Search) {
                         <input type="hidden" name="idempotencyKey" value={randomUUID()} />
                         <input type="hidden" name="kind" value={r.kind} />
                         <input type="hidden" name="entryId" value={r.id} />
+                        <input type="hidden" name="back" value={`/corrections?${q}`} />
                         <div className="field">
                           <label htmlFor={`v-${r.kind}-${r.id}`}>New value</label>
                           <input id={`v-${r.kind}-${r.id}`} name="value" inputMode="numeric" required defaultValue={r.value} />

@@ -1,8 +1,8 @@
 import type Database from "better-sqlite3";
 import { rawDb } from "../db/client";
 import { isIsoDate, localToday } from "../dates";
-import { cellHistory, currentSheetEntries, type EntryView } from "../db/tallies";
-import { currentSheetUnits, unitsHistory, type UnitsEntryView } from "../db/inspections";
+import { cellHistory, currentSheetEntries, getEntry, type EntryView } from "../db/tallies";
+import { currentSheetUnits, getUnitsEntry, unitsHistory, type UnitsEntryView } from "../db/inspections";
 import { actorAtLeast, type Actor } from "./actor";
 import { localStamp } from "./format";
 import { correctionPermission } from "./plans";
@@ -248,4 +248,21 @@ export function historyPageData(params: { date?: string; shift?: string; line?: 
     page.units = unitsHistory(ref, sqlite).map(historyRow);
   }
   return page;
+}
+
+/** "Flash 2 → 5 (entry #12 replaces #7; reason: …)" for the marker t12 / u12 after a correction. */
+export function describeCorrection(marker: string | undefined): string | null {
+  const m = marker ? /^([tu])(\d{1,12})$/.exec(marker) : null;
+  if (!m) return null;
+  const id = Number(m[2]);
+  if (m[1] === "t") {
+    const e = getEntry(id);
+    if (!e || e.supersedesId === null) return null;
+    const old = getEntry(e.supersedesId);
+    return `${e.categoryName} ${old?.count ?? "?"} → ${e.count} (entry #${e.id} replaces #${e.supersedesId}; reason: ${e.correctionReason ?? ""})`;
+  }
+  const u = getUnitsEntry(id);
+  if (!u || u.supersedesId === null) return null;
+  const old = getUnitsEntry(u.supersedesId);
+  return `units inspected ${old?.units ?? "?"} → ${u.units} (entry #${u.id} replaces #${u.supersedesId}; reason: ${u.correctionReason ?? ""})`;
 }

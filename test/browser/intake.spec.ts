@@ -154,7 +154,7 @@ test("an engineer corrects an entry and sees who changed what, when and why in t
   await row.getByLabel("New value").fill("5");
   await row.getByLabel("Reason").fill("recounted the reject bin");
   await row.getByRole("button", { name: "Correct" }).click();
-  await expect(page.getByText(/Corrected \(entry #\d+\)/)).toBeVisible();
+  await expect(page.getByRole("status")).toContainText(/Corrected: Flash 2 → 5 \(entry #\d+ replaces #\d+; reason: recounted the reject bin\)/);
 
   await page.goto("/history?date=2020-01-06&shift=EARLY&line=P1&category=flash");
   await expect(page.getByText(/Current total: 5/)).toBeVisible();
