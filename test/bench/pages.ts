@@ -5,6 +5,7 @@
 // Needs the production build in .next-review (LINEMIX_DIST_DIR=.next-review npx next build)
 // and Chromium at /usr/bin/chromium (CHROMIUM_PATH to override).
 import { spawn, type ChildProcess } from "node:child_process";
+import { request } from "node:http";
 import { existsSync, mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -95,8 +96,8 @@ function buildPlant(): { lastDay: string; tallies: number } {
         for (let s = 0; s < SHIFTS; s++) {
           units.run(date, shiftIds[s], lineIds[l], 8000 + Math.floor(u() * 2000), `b:u:${date}:${l}:${s}`);
           for (let k = 0; k < CATEGORIES; k++) {
-            // A planted mix change: line 7, category 5, for 14 days about a month back.
-            const factor = l === 6 && k === 4 && back <= 40 && back > 26 ? 3 : 1;
+            // A planted mix change: line 7, category 5, six times its share for 14 days about a month back.
+            const factor = l === 6 && k === 4 && back <= 40 && back > 26 ? 6 : 1;
             const count = poisson(u, (30 * weights[k] * factor) / total);
             tally.run(date, shiftIds[s], lineIds[l], categoryIds[k], count, `b:t:${date}:${l}:${s}:${k}`);
             tallies++;
@@ -134,13 +135,22 @@ async function waitForHealth(base: string, server: ChildProcess): Promise<void> 
   throw new Error("server did not come up within 120 s");
 }
 
-async function timeGet(base: string, route: string, cookie: string): Promise<number> {
-  const t = performance.now();
-  const r = await fetch(`${base}${route}`, { headers: { cookie }, redirect: "manual" });
-  const body = await r.text();
-  const ms = performance.now() - t;
-  if (r.status !== 200) throw new Error(`${route}: HTTP ${r.status} ${body.slice(0, 200)}`);
-  return ms;
+// node:http rather than fetch: a cold first request may take minutes, past fetch's header timeout.
+function timeGet(base: string, route: string, cookie: string): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const t = performance.now();
+    const req = request(`${base}${route}`, { headers: { cookie } }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on("data", (c: Buffer) => chunks.push(c));
+      res.on("end", () => {
+        const ms = performance.now() - t;
+        if (res.statusCode !== 200) reject(new Error(`${route}: HTTP ${res.statusCode} ${Buffer.concat(chunks).toString().slice(0, 200)}`));
+        else resolve(ms);
+      });
+    });
+    req.on("error", reject);
+    req.end();
+  });
 }
 
 let server: ChildProcess | null = null;

@@ -117,13 +117,17 @@ export function SettingsForm({
             <input id="stepDays" name="stepDays" type="number" min={1} max={366} step={1} defaultValue={initial.stepDays} {...field("stepDays")} />
             <ErrorText id="stepDays-error" message={e.stepDays} />
           </div>
-          <div className="field" hidden={compare !== "history"}>
-            <label htmlFor="historyWeeks">
-              Baseline <span className="hint">weeks before each window</span>
-            </label>
-            <input id="historyWeeks" name="historyWeeks" type="number" min={1} max={104} step={1} defaultValue={initial.historyWeeks} {...field("historyWeeks")} />
-            <ErrorText id="historyWeeks-error" message={e.historyWeeks} />
-          </div>
+          {compare === "history" ? (
+            <div className="field">
+              <label htmlFor="historyWeeks">
+                Baseline <span className="hint">weeks before each window</span>
+              </label>
+              <input id="historyWeeks" name="historyWeeks" type="number" min={1} max={104} step={1} defaultValue={initial.historyWeeks} {...field("historyWeeks")} />
+              <ErrorText id="historyWeeks-error" message={e.historyWeeks} />
+            </div>
+          ) : (
+            <input type="hidden" name="historyWeeks" value={initial.historyWeeks} />
+          )}
         </div>
       </fieldset>
       <fieldset>
