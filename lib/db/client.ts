@@ -13,16 +13,25 @@ import { databaseFile, databaseUrl } from "./url";
 
 const BUSY_TIMEOUT_MS = 5_000;
 
-type Handles = { prisma: PrismaClient; sqlite: Database.Database; url: string };
+type Handles = { prisma: PrismaClient; sqlite: Database.Database; url: string; readonly: boolean };
 const globalForDb = globalThis as unknown as { linemixDb?: Handles };
 
-function open(url: string): Handles {
-  mkdirSync(path.dirname(databaseFile(url)), { recursive: true });
+/**
+ * LINEMIX_DB_READONLY=1 opens both connections read-only: pages and reads work, every
+ * write fails with SQLITE_READONLY (answered as "the database is read-only", see
+ * lib/db/errors.ts). For serving a copy during maintenance, and for testing that path.
+ */
+export function readonlyRequested(): boolean {
+  return process.env.LINEMIX_DB_READONLY === "1";
+}
+
+function open(url: string, readonly: boolean): Handles {
+  if (!readonly) mkdirSync(path.dirname(databaseFile(url)), { recursive: true });
   const prisma = new PrismaClient({
-    adapter: new PrismaBetterSqlite3({ url, timeout: BUSY_TIMEOUT_MS }),
+    adapter: new PrismaBetterSqlite3({ url, timeout: BUSY_TIMEOUT_MS, ...(readonly ? { readonly: true, fileMustExist: true } : {}) }),
   });
-  const sqlite = openSqlite(url);
-  return { prisma, sqlite, url };
+  const sqlite = openSqlite(url, readonly ? { readonly: true, fileMustExist: true } : {});
+  return { prisma, sqlite, url, readonly };
 }
 
 /**
@@ -41,9 +50,10 @@ export function openSqlite(url = databaseUrl(), options: Database.Options = {}):
 
 function handles(): Handles {
   const url = databaseUrl();
+  const readonly = readonlyRequested();
   const current = globalForDb.linemixDb;
-  if (current && current.url === url) return current;
-  const fresh = open(url);
+  if (current && current.url === url && current.readonly === readonly) return current;
+  const fresh = open(url, readonly);
   globalForDb.linemixDb = fresh;
   return fresh;
 }
