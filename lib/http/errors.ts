@@ -1,5 +1,6 @@
 import { randomUUID } from "node:crypto";
 import { AuthError } from "@/lib/auth/access";
+import { databaseTrouble, databaseTroubleResponse, describeTroubleForLog } from "@/lib/db/errors";
 
 /**
  * Server errors are logged with a correlation id and answered without internals.
@@ -24,8 +25,11 @@ export function internalErrorResponse(id: string): Response {
 }
 
 /**
- * Wraps a route handler: an AuthError becomes its JSON 401/403; anything else thrown is
- * logged as `[error <id>] METHOD path` and answered with a 500 carrying only the id.
+ * Wraps a route handler: an AuthError becomes its JSON 401/403; a database that is full,
+ * read-only, busy or failing becomes a JSON 503 with Retry-After and a plain message
+ * (lib/db/errors.ts; each write is one transaction, so nothing of it was stored);
+ * anything else thrown is logged as `[error <id>] METHOD path` and answered with a 500
+ * carrying only the id.
  *
  *   export const GET = withErrorHandling(async (request: Request) => { ... });
  */
@@ -45,6 +49,11 @@ export function withErrorHandling<A extends [Request, ...unknown[]]>(
         where = `${request.method} ${new URL(request.url).pathname}`;
       } catch {
         where = "route handler";
+      }
+      const trouble = databaseTrouble(error);
+      if (trouble) {
+        console.warn(describeTroubleForLog(trouble, where));
+        return databaseTroubleResponse(trouble);
       }
       return internalErrorResponse(logServerError(error, where));
     }
