@@ -1,4 +1,5 @@
 import { db } from "@/lib/db/client";
+import { ignoreDatabaseTrouble } from "@/lib/db/errors";
 import { API_SCOPES, isApiScope, type ApiScope } from "./roles";
 import { randomToken, sha256 } from "./tokens-crypto";
 
@@ -48,7 +49,8 @@ export async function verifyApiToken(token: string, scope: ApiScope, now = new D
   if (!row || row.revokedAt) return { ok: false, status: 401, error: "Invalid or revoked API token." };
   const scopes = parseScopes(row.scopes);
   if (!row.lastUsedAt || now.getTime() - row.lastUsedAt.getTime() >= 60_000) {
-    await db().apiToken.update({ where: { id: row.id }, data: { lastUsedAt: now } });
+    // Best effort, as the session touch: reads keep working when the database cannot be written.
+    await db().apiToken.update({ where: { id: row.id }, data: { lastUsedAt: now } }).catch(ignoreDatabaseTrouble);
   }
   if (!scopes.includes(scope)) {
     return { ok: false, status: 403, error: `This token lacks the scope ${scope}.` };

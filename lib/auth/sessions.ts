@@ -1,4 +1,5 @@
 import { db } from "@/lib/db/client";
+import { ignoreDatabaseTrouble } from "@/lib/db/errors";
 import { isRole, type Role } from "./roles";
 import { randomToken, sha256 } from "./tokens-crypto";
 
@@ -79,7 +80,11 @@ export async function validateSessionToken(
   const user = session.user;
   if (!user.active || !isRole(user.role)) return null;
   if (t - session.lastSeenAt.getTime() >= TOUCH_INTERVAL_MS) {
-    await db().session.update({ where: { id: session.id }, data: { lastSeenAt: now } });
+    // Best effort: a full, read-only or busy database must not turn every page view
+    // into an error; the touch is retried on the next request.
+    await db()
+      .session.update({ where: { id: session.id }, data: { lastSeenAt: now } })
+      .catch(ignoreDatabaseTrouble);
   }
   return {
     kind: "user",
