@@ -225,7 +225,13 @@ async function sendOne(item: OutboxItem): Promise<void> {
     return;
   }
   if (response.status >= 500 || response.status === 408 || response.status === 429) {
-    update(item.key, { lastError: `The server could not take it (HTTP ${response.status}).`, nextAttemptAt: Date.now() + retryDelay(attempts) });
+    // A 503 from a full, read-only or busy database carries a plain message and Retry-After.
+    const said = response.status === 503 && typeof body.error === "string" ? body.error : null;
+    const retryAfterMs = Math.min(RETRY_MAX_MS, Number(response.headers.get("retry-after")) * 1000 || 0);
+    update(item.key, {
+      lastError: said ?? `The server could not take it (HTTP ${response.status}).`,
+      nextAttemptAt: Date.now() + Math.max(retryAfterMs, retryDelay(attempts)),
+    });
     return;
   }
   // 400, 403, 409, 413: refused; nothing was stored under this key.
