@@ -5,6 +5,7 @@
 import { createReadStream, statSync } from "node:fs";
 import path from "node:path";
 import { closeDb, rawDb } from "../db/client";
+import { databaseTrouble } from "../db/errors";
 import { applyMigrationsIfPending } from "../intake/migrations";
 import { cliActor } from "../intake/actor";
 import { formatProblem } from "../intake/csv-read";
@@ -89,6 +90,9 @@ main()
     process.exit(code);
   })
   .catch((error: unknown) => {
-    process.stderr.write(`import failed: ${error instanceof Error ? error.message : String(error)}\n`);
+    // A full, read-only, locked or failing database: the import's one transaction rolled back.
+    const trouble = databaseTrouble(error);
+    const said = trouble ? `${trouble.message} (${trouble.sqliteCode})` : error instanceof Error ? error.message : String(error);
+    process.stderr.write(`import failed: ${said}\n`);
     process.exit(1);
   });
