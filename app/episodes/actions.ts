@@ -7,6 +7,7 @@ import { EpisodeError, addEpisodeNote, setEpisodeActionRefs, setEpisodeOwner } f
 import { liveSource } from "@/lib/episodes/live-source";
 import { EPISODE_STATUSES, STATUS_LABELS } from "@/lib/episodes/status";
 import { changeEpisodeStatus } from "@/lib/episodes/workflow";
+import { databaseTrouble, describeTroubleForLog } from "@/lib/db/errors";
 import { logServerError } from "@/lib/http/errors";
 
 /** What every episode action answers: a message to show, or an error (with the field it concerns). */
@@ -64,6 +65,11 @@ async function asEngineer(task: (me: UserPrincipal) => Promise<EpisodeActionResu
     return await task(me);
   } catch (error) {
     if (error instanceof EpisodeError) return fail(error.message, error.code === "reason" ? "reason" : undefined);
+    const trouble = databaseTrouble(error);
+    if (trouble) {
+      console.warn(describeTroubleForLog(trouble, "episode action"));
+      return fail(trouble.message);
+    }
     const ref = logServerError(error, "episode action");
     return fail(`Something went wrong (reference ${ref}).`);
   }

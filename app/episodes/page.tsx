@@ -7,6 +7,7 @@ import { liveSource } from "@/lib/episodes/live-source";
 import { parseEpisodeFilter, filterQuery } from "@/lib/episodes/filter";
 import { EPISODE_STATUSES, STATUS_LABELS, isOpenStatus } from "@/lib/episodes/status";
 import { syncAllComparisons } from "@/lib/episodes/sync";
+import { databaseTrouble } from "@/lib/db/errors";
 import { logServerError } from "@/lib/http/errors";
 import { formatP, formatRange, formatSigned } from "@/lib/review/format";
 import { namesFrom, type Names } from "@/lib/review/names";
@@ -31,7 +32,8 @@ export default async function EpisodesPage({ searchParams }: { searchParams: Sea
   try {
     await syncAllComparisons(liveSource);
   } catch (error) {
-    syncError = logServerError(error, "episodes sync");
+    const trouble = databaseTrouble(error);
+    syncError = trouble ? trouble.message : `The latest scan could not be read (reference ${logServerError(error, "episodes sync")}).`;
   }
   const [episodes, comparisons, plant] = await Promise.all([listEpisodes(filter), comparisonsWithEpisodes(), loadMasterData()]);
   const names = namesFrom(plant);
@@ -56,7 +58,7 @@ export default async function EpisodesPage({ searchParams }: { searchParams: Sea
       </p>
       {syncError && (
         <p className="caution" role="alert">
-          The latest scan could not be read (reference {syncError}); the list shows the records as last synced.
+          {syncError} The list shows the records as last synced.
         </p>
       )}
       <form className="card episode-filters no-print" method="get" aria-label="Filter flagged periods">

@@ -9,6 +9,7 @@ import { BRIEF_CAUTIONS } from "@/lib/episodes/brief-data";
 import type { CellState, MeasureDiff } from "@/lib/episodes/snapshot-diff";
 import { STATUS_LABELS, TRANSITIONS, reasonRequired, statusLabel } from "@/lib/episodes/status";
 import { syncComparison } from "@/lib/episodes/sync";
+import { databaseTrouble } from "@/lib/db/errors";
 import { logServerError } from "@/lib/http/errors";
 import { formatExpected, formatNumber, formatP, formatPercent, formatRange, formatRatio, formatSigned, formatV } from "@/lib/review/format";
 import { StatusBadge } from "../status-badge";
@@ -82,7 +83,8 @@ export default async function EpisodePage({ params, searchParams }: { params: Pa
   try {
     await syncComparison(liveSource, existing.comparison.id);
   } catch (error) {
-    syncError = logServerError(error, `episode ${id} sync`);
+    const trouble = databaseTrouble(error);
+    syncError = trouble ? trouble.message : `The latest scan could not be read (reference ${logServerError(error, `episode ${id} sync`)}).`;
   }
   const search = await searchParams;
   const snapshotParam = Array.isArray(search.snapshot) ? search.snapshot[0] : search.snapshot;
@@ -112,7 +114,7 @@ export default async function EpisodePage({ params, searchParams }: { params: Pa
       </div>
       {syncError && (
         <p className="caution" role="alert">
-          The latest scan could not be read (reference {syncError}); the record shows what was last synced.
+          {syncError} The record shows what was last synced.
         </p>
       )}
 
