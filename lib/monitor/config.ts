@@ -51,12 +51,23 @@ function parse<T>(schema: z.ZodType<T>, config: unknown): T {
   return value;
 }
 
-/** Validates a {@link ScanConfig}, filling sparse = "auto". */
+/**
+ * Validates a {@link ScanConfig} (zod), filling sparse = "auto"; throws a RangeError
+ * naming the first bad field.
+ *
+ * @example
+ * resolveScanConfig({ compare: "line", windowDays: 7, stepDays: 1, alpha: 0.05, adjust: "bh", minEffect: 0 }).sparse; // "auto"
+ */
 export function resolveScanConfig(config: ScanConfig): ResolvedScanConfig {
   return parse(scanSchema, config) as ResolvedScanConfig;
 }
 
-/** Validates a {@link HistoryConfig}, filling sparse = "auto". */
+/**
+ * Validates a {@link HistoryConfig}, filling sparse = "auto".
+ *
+ * @example
+ * resolveHistoryConfig({ line: "L1", windowDays: 7, stepDays: 1, historyWeeks: 8, alpha: 0.05, adjust: "bh", minEffect: 0 }).historyWeeks; // 8
+ */
 export function resolveHistoryConfig(config: HistoryConfig): ResolvedHistoryConfig {
   return parse(historySchema, config) as ResolvedHistoryConfig;
 }

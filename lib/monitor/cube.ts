@@ -19,7 +19,14 @@ export interface Cube {
   data: Float64Array;
 }
 
-/** Allocates an all-zero cube. */
+/**
+ * Allocates an all-zero cube of `days` day slices of groups × categories.
+ *
+ * Cost: days · groups · categories doubles (5 years × 20 × 40 ≈ 11.7 MB).
+ *
+ * @example
+ * createCube(20454, 3, ["L1", "L2"], ["A", "B"]).data.length; // 12
+ */
 export function createCube(firstDay: number, days: number, groups: string[], categories: string[]): Cube {
   const width = groups.length * categories.length;
   return { firstDay, days, groups, categories, width, data: new Float64Array(days * width) };

@@ -44,6 +44,9 @@ export function tableDrivers(table: number[][], rows: string[], columns: string[
  * Order of residuals: larger |r| first; equal magnitudes (a 2-row table mirrors every
  * residual, up to rounding) put the excess (r > 0) first, since "more than expected" is
  * where a root-cause meeting starts.
+ *
+ * @example
+ * [4, -5, 5].sort(byMagnitudeThenExcess); // [5, -5, 4]
  */
 export function byMagnitudeThenExcess(a: number, b: number): number {
   const d = Math.abs(b) - Math.abs(a);

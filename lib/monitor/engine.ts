@@ -24,27 +24,53 @@ export interface PreparedScan {
   states: WindowState[];
 }
 
+/** Row labels of a history scan's tables. */
 export const HISTORY_ROWS = ["current", "baseline"];
 
-/** Tests every window of the plan. */
+/**
+ * Tests every window of the plan (see testWindow), moving one sliding sum along.
+ * Cost: O(windows · groups · categories) for asymptotic windows.
+ *
+ * @example
+ * prepareScan({ kind: "groups", cube, starts, windowDays: 7, baselineDays: 0, test, finalize }).states.length; // starts.length
+ */
 export function prepareScan(scan: Omit<PreparedScan, "states">): PreparedScan {
   const prepared: PreparedScan = { ...scan, states: [] };
   prepared.states = testRange(prepared, 0, scan.starts.length);
   return prepared;
 }
 
-/** Retests windows lo … hi − 1 in place (after the cube changed under them). */
+/**
+ * Retests windows lo … hi − 1 in place (after the cube changed under them).
+ * Cost: O((hi − lo + windowDays) · groups · categories).
+ *
+ * @example
+ * retestWindows(scan, 40, 47); // the 7 windows covering one corrected day
+ */
 export function retestWindows(scan: PreparedScan, lo: number, hi: number): void {
   const fresh = testRange(scan, lo, hi);
   for (let k = lo; k < hi; k++) scan.states[k] = fresh[k - lo];
 }
 
-/** The across-window pass (adjustment, flags, drivers, episodes) over the current states. */
+/**
+ * The across-window pass (adjustment, flags, drivers, episodes) over the current states;
+ * see finalizeScan.
+ *
+ * @example
+ * finishScan(prepareWindowScan(rows, config)!); // deep-equals scanWindows(rows, config)
+ */
 export function finishScan(scan: PreparedScan): ScanResult {
   return finalizeScan(scan.states, scan.finalize);
 }
 
-/** The rows × categories sums of every window in lo … hi − 1, moved incrementally; `visit` must not keep `sums`. */
+/**
+ * Calls `visit` with the rows × categories sums of every window in lo … hi − 1, moved
+ * incrementally (for history: [current; baseline], two sliding sums). `visit` must not
+ * keep `sums`: the buffer is reused. Cost: O((hi − lo) · width) plus the visits.
+ *
+ * @example
+ * forEachWindowTable(scan, 0, 1, (k, sums, rows) => console.log(rows, sums.length)); // ["L1", "L2"] 4 for a 2 × 2 cube
+ */
 export function forEachWindowTable(
   scan: Pick<PreparedScan, "kind" | "cube" | "starts" | "windowDays" | "baselineDays">,
   lo: number,

@@ -13,7 +13,9 @@ import type { Episode, EpisodeDriver, ScanWindow } from "./types";
  * Cost: O(windows + drivers · log drivers).
  *
  * @example
- * buildEpisodes(windows).map((e) => [e.start, e.end, e.windows]); // [["2026-03-02", "2026-03-12", 5]]
+ * // flagged: 03-01…03-07, 03-05…03-11, 03-12…03-18 (touches), 03-20…03-26 (a free day before it)
+ * buildEpisodes(windows).map((e) => [e.start, e.end, e.windows]);
+ * // [["2026-03-01", "2026-03-18", 3], ["2026-03-20", "2026-03-26", 1]]  (test/monitor/episodes.test.ts)
  */
 export function buildEpisodes(windows: readonly ScanWindow[]): Episode[] {
   return flaggedRuns(windows, (w) => w.flagged).map((run) => ({

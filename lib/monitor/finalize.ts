@@ -31,7 +31,8 @@ export interface FinalizeOptions {
  * Cost: O(m log m) for m testable windows, plus one analyzeTable per newly flagged window.
  *
  * @example
- * finalizeScan(states, { alpha: 0.05, adjust: "bh", minEffect: 0 }).episodes.length; // 1 for one injected change
+ * // the R fixture's dense set (test/fixtures/monitor): adjusted p equal p.adjust(p, "BH")
+ * finalizeScan(states, { alpha: 0.05, adjust: "bh", minEffect: 0 }).windows[5].adjustedPValue; // 0.0007053443195851037
  */
 export function finalizeScan(states: readonly WindowState[], options: FinalizeOptions): ScanResult {
   const testable = states.filter((s) => s.window.testable);

@@ -37,7 +37,13 @@ export function windowsCovering(starts: Int32Array, windowDays: number, day: num
   return lo <= hi ? [lo, hi] : null;
 }
 
-/** Index of the first element ≥ value in an ascending array (its length when none). */
+/**
+ * Index of the first element ≥ value in an ascending array (its length when none);
+ * binary search, O(log n).
+ *
+ * @example
+ * lowerBound(Int32Array.from([0, 2, 4]), 3); // 2
+ */
 export function lowerBound(sorted: Int32Array, value: number): number {
   let lo = 0;
   let hi = sorted.length;

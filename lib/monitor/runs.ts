@@ -27,14 +27,25 @@ export function flaggedRuns<W extends { start: string; end: string }>(windows: r
   return runs;
 }
 
-/** The latest end date of a run. */
+/**
+ * The latest end date of a run of windows.
+ *
+ * @example
+ * runEnd([{ end: "2026-01-07" }, { end: "2026-01-08" }]); // "2026-01-08"
+ */
 export function runEnd(run: readonly { end: string }[]): string {
   let end = run[0].end;
   for (const w of run) if (w.end > end) end = w.end;
   return end;
 }
 
-/** The window with the smallest adjusted p; ties: smaller raw p, then earlier. */
+/**
+ * The window with the smallest adjusted p; ties (BH gives many): smaller raw p, then
+ * earlier. O(run length).
+ *
+ * @example
+ * peakOf([{ adjustedPValue: 0.01, pValue: 0.002 }, { adjustedPValue: 0.01, pValue: 0.001 }]).pValue; // 0.001
+ */
 export function peakOf<W extends { adjustedPValue: number | null; pValue: number | null }>(run: readonly W[]): W {
   let peak = run[0];
   for (const w of run) {

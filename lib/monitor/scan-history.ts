@@ -20,15 +20,23 @@ import type { HistoryConfig, ScanResult, TallyRow } from "./types";
  * Cost: two sliding sums (current, baseline) moved incrementally, O(categories) per window.
  *
  * @example
+ * // test/monitor/history.test.ts plant, seed 6: L2 makes 3× its C06 from 2026-04-06 to 04-26
  * scanHistory(rows, { line: "L2", windowDays: 7, stepDays: 1, historyWeeks: 4, alpha: 0.05, adjust: "bh", minEffect: 0 })
- *   .episodes[0].drivers[0]; // { row: "current", category: "WLD", windows: 9, adjustedResidual: 7.9… } for a planted WLD rise
+ *   .episodes[0].drivers[0]; // { row: "current", category: "C06", windows: 14, adjustedResidual: 6.37… }
+ * // (a second episode follows, from 04-27, with C06 *below* baseline: the change is still in the baseline)
  */
 export function scanHistory(rows: readonly TallyRow[], config: HistoryConfig): ScanResult {
   const prepared = prepareHistoryScan(rows, config);
   return prepared ? finishScan(prepared) : { windows: [], episodes: [] };
 }
 
-/** The prepared (unfinished) form of {@link scanHistory}; null when no row is in range. */
+/**
+ * The prepared (unfinished) form of {@link scanHistory}, for callers that retest windows;
+ * null when no row is in range. Cost as scanHistory without the across-window pass.
+ *
+ * @example
+ * prepareHistoryScan(rows, config)?.baselineDays; // 28 for historyWeeks: 4
+ */
 export function prepareHistoryScan(rows: readonly TallyRow[], config: HistoryConfig): PreparedScan | null {
   const c = resolveHistoryConfig(config);
   const cube = bucketTallies(rows, {

@@ -36,7 +36,13 @@ export function scanWindows(rows: readonly TallyRow[], config: ScanConfig): Scan
   return prepared ? finishScan(prepared) : { windows: [], episodes: [] };
 }
 
-/** The prepared (unfinished) form of {@link scanWindows}; null when no row is in range. */
+/**
+ * The prepared (unfinished) form of {@link scanWindows}: cube, plan and unadjusted window
+ * results, for callers that retest windows; null when no row is in range.
+ *
+ * @example
+ * prepareWindowScan(rows, { compare: "line", windowDays: 7, stepDays: 1, alpha: 0.05, adjust: "bh", minEffect: 0 })?.starts.length; // 1820 for 5 years of days
+ */
 export function prepareWindowScan(rows: readonly TallyRow[], config: ScanConfig): PreparedScan | null {
   const c = resolveScanConfig(config);
   const cube = bucketTallies(rows, {

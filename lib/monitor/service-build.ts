@@ -36,7 +36,13 @@ function select(rows: MasterRow[], codes: string[] | null, what: string, compari
   });
 }
 
-/** The entries a comparison reads: its filters as ids, its groups and categories in display order. */
+/**
+ * The entries a comparison reads: its filters as ids, its groups and categories in
+ * display order; a code the master data does not know throws a RangeError.
+ *
+ * @example
+ * loadSpecOf({ ...comparison, compare: "shift", lines: ["L01"] }, master).groupBy; // "shift"
+ */
 export function loadSpecOf(c: SavedComparison, master: MasterData): LoadSpec {
   const lines = select(master.lines, c.lines, "line", c.code);
   const shifts = select(master.shifts, c.shifts, "shift", c.code);
@@ -74,6 +80,9 @@ function codesOf(ids: number[], rows: MasterRow[]): string[] {
  * the comparison names them), so a retired line does not show as "dropped" in every window.
  *
  * Cost: the SQL aggregation (≈ 1 s for two million entries) plus the scan.
+ *
+ * @example
+ * buildLiveScan(rawDb(), readComparison(rawDb(), "lines")!, readMasterData(rawDb())).mix?.starts.length; // 74 for 80 days, 7-day windows
  */
 export function buildLiveScan(db: Database.Database, comparison: SavedComparison, master: MasterData): LiveScan {
   checkPackable(db);
@@ -161,6 +170,10 @@ export type PatchOutcome = { rebuilt: false; retested: number[] } | { rebuilt: t
  * windows whose baseline covers them), extending the plan when data arrive past the last
  * day. Returns rebuilt: true (without patching) when the change cannot be patched: a new
  * first day, a shorter range, or a group or category the scan has not seen.
+ * Cost: the SQL for the touched days plus the retested windows.
+ *
+ * @example
+ * patchLiveScan(rawDb(), live, changesSince(rawDb(), ids).touched); // { rebuilt: false, retested: [8, 9, 10, 11, 12, 13, 14] }
  */
 export function patchLiveScan(db: Database.Database, live: LiveScan, touched: TouchedEntry[]): PatchOutcome {
   if (!live.mix || !live.rates) return { rebuilt: true };
@@ -251,7 +264,12 @@ function ranges(indices: Set<number>): [number, number][] {
   return out;
 }
 
-/** The finished result (across-window pass of both scans) of a live scan. */
+/**
+ * The finished result (across-window pass of both scans) of a live scan.
+ *
+ * @example
+ * liveOutput(live).episodes[0].drivers[0]; // { row: "L03", category: "C07", windows: 14, adjustedResidual: 7.26… } (service test data)
+ */
 export function liveOutput(live: LiveScan): ScanOutput {
   if (!live.mix || !live.rates) return { windows: [], episodes: [], rates: { windows: [], episodes: [] } };
   const { windows, episodes } = finishScan(live.mix);

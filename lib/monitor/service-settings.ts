@@ -99,7 +99,13 @@ function parseComparison(row: unknown): SavedComparison {
   return c;
 }
 
-/** The saved comparison with this id or code, or null. */
+/**
+ * The saved comparison with this id or code, or null; the JSON code lists parsed (an
+ * empty list means all) and checked with zod, a bad row throwing a RangeError.
+ *
+ * @example
+ * readComparison(rawDb(), "lines")?.compare; // "line"
+ */
 export function readComparison(db: Database.Database, idOrCode: number | string): SavedComparison | null {
   const row =
     typeof idOrCode === "number"
@@ -108,7 +114,12 @@ export function readComparison(db: Database.Database, idOrCode: number | string)
   return row === undefined ? null : parseComparison(row);
 }
 
-/** Active saved comparisons in display order. */
+/**
+ * Active saved comparisons in display order (then code).
+ *
+ * @example
+ * readActiveComparisons(rawDb()).map((c) => c.code); // ["l1-shifts", "l3-history", "lines"]
+ */
 export function readActiveComparisons(db: Database.Database): SavedComparison[] {
   return db
     .prepare(`SELECT ${COLUMNS} FROM Comparison WHERE active = 1 ORDER BY displayOrder, code`)
@@ -116,7 +127,13 @@ export function readActiveComparisons(db: Database.Database): SavedComparison[] 
     .map(parseComparison);
 }
 
-/** Lines, shifts and categories (all of them: inactive ones may still have history). */
+/**
+ * Lines, shifts and categories (all of them: inactive ones may still have history), in
+ * display order.
+ *
+ * @example
+ * readMasterData(rawDb()).categories[0]; // { id: 1, code: "C01", name: "Category C01", family: "surface", displayOrder: 0, active: true }
+ */
 export function readMasterData(db: Database.Database): MasterData {
   const order = "ORDER BY displayOrder, code";
   const bool = <T extends { active: unknown }>(r: T) => ({ ...r, active: Boolean(r.active) });

@@ -62,7 +62,12 @@ function state(db: Database.Database): ServiceState {
   return s;
 }
 
-/** Forgets every kept result (tests; after a restore). */
+/**
+ * Forgets every kept result (tests; after a restore), so the next request rebuilds.
+ *
+ * @example
+ * forgetKeptResults(); (await runComparison("lines"))?.computed.how; // "built"
+ */
 export function forgetKeptResults(): void {
   holder.linemixMonitor = undefined;
 }
@@ -82,14 +87,25 @@ export function forgetKeptResults(): void {
  * Cost: cold ≈ 1.5–2.5 s for two million entries (aggregation dominates); kept < 1 ms;
  * a late correction ≈ the SQL for its days plus windowDays windows.
  *
+ * The returned objects are shared with the kept state: read them, do not change them.
+ *
  * @example
- * (await runComparison("lines-weekly"))?.episodes[0]?.drivers[0]; // { row: "P3", category: "seal-leak", windows: 12, adjustedResidual: 9.1… } on the demo plant
+ * // test/monitor/service.test.ts data: 5 lines, 80 days, L03 makes 3× its C07 from 2026-02-20 to 03-05
+ * (await runComparison("lines"))?.episodes[0];
+ * // { start: "2026-02-17", end: "2026-03-08", windows: 14, peak: { start: "2026-02-27", … },
+ * //   drivers: [{ row: "L03", category: "C07", windows: 14, adjustedResidual: 7.26… }, …] }
  */
 export async function runComparison(idOrCode: number | string): Promise<ComparisonRun | null> {
   return runSync(rawDb(), idOrCode);
 }
 
-/** {@link runComparison} for every active comparison, in display order (the overview). */
+/**
+ * {@link runComparison} for every active comparison, in display order (the overview);
+ * each one served from its kept result when nothing changed.
+ *
+ * @example
+ * (await runAllComparisons()).map((r) => [r.comparison.code, r.status]); // [["l1-shifts", "quiet"], ["l3-history", "quiet"], ["lines", "quiet"]]
+ */
 export async function runAllComparisons(): Promise<ComparisonRun[]> {
   const db = rawDb();
   return readActiveComparisons(db).map((c) => runSync(db, c.id)!);
@@ -104,7 +120,10 @@ export async function runAllComparisons(): Promise<ComparisonRun[]> {
  * Cost: a kept-result check, then one window's sum and one analyzeTable.
  *
  * @example
- * (await windowDetail("lines-weekly", "2026-03-02"))?.analysis?.adjustedResiduals; // the r × c adjusted residuals
+ * // service test data, the episode's peak window
+ * const d = await windowDetail("lines", "2026-02-27");
+ * [d?.analysis?.chiSquare, d?.analysis?.gSquare, d?.critical]; // [86.49…, 80.53…, 3.227…]
+ * d?.drivers[0]; // { row: "L03", category: "C07", observed: 66, expected: 33.13…, ratio: 1.99…, adjustedResidual: 6.80…, contribution: 0.377… }
  */
 export async function windowDetail(comparison: number | string, start: string): Promise<ComparisonWindowDetail | null> {
   const db = rawDb();

@@ -14,7 +14,10 @@ import type { Cube } from "./cube";
  * overlap (the sum is then rebuilt from zero).
  *
  * @example
- * const s = new SlidingSum(cube, 7); s.moveTo(cube.firstDay); s.sums; // the first week's table
+ * // cube: 3 days of a 2 × 2 table holding 1…4, 5…8, 9…12
+ * const s = new SlidingSum(cube, 2);
+ * s.moveTo(cube.firstDay);     // s.sums = [6, 8, 10, 12]
+ * s.moveTo(cube.firstDay + 1); // s.sums = [14, 16, 18, 20]: day 3 added, day 1 subtracted
  */
 export class SlidingSum {
   /** The current sums, width = groups · categories. Read it, don't keep it: it is reused. */

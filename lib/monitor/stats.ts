@@ -16,11 +16,24 @@ function pending(name: string): never {
   throw new Error(`lib/stats has no ${name} yet`);
 }
 
-/** Fisher–Freeman–Halton exact p, or null when lib/stats deems the table too large. */
+/**
+ * Step budget of the exact test inside a scan: a tenth of lib/stats's default, because a
+ * scan may hold hundreds of sparse windows and Monte Carlo answers a table that needs
+ * more in ~0.1 s.
+ */
+export const EXACT_MAX_STEPS = 2_000_000;
+
+/**
+ * Fisher–Freeman–Halton exact p (lib/stats exactPValue), or null when lib/stats deems
+ * the table too large for {@link EXACT_MAX_STEPS} or gives up on it.
+ *
+ * @example
+ * exactIfFeasible([[3, 1], [1, 3]]); // 0.4857142857142857
+ */
 export function exactIfFeasible(table: number[][]): number | null {
-  if (!exactIsFeasible(table).feasible) return null;
+  if (!exactIsFeasible(table, { maxSteps: EXACT_MAX_STEPS }).feasible) return null;
   try {
-    return exactPValue(table);
+    return exactPValue(table, { maxSteps: EXACT_MAX_STEPS });
   } catch (error) {
     // The feasibility bound is conservative but not a guarantee: over budget → Monte Carlo.
     if (error instanceof RangeError) return null;
@@ -28,7 +41,12 @@ export function exactIfFeasible(table: number[][]): number | null {
   }
 }
 
-/** Monte Carlo p-value with a fixed seed. */
+/**
+ * Monte Carlo p-value (lib/stats monteCarloPValue: Patefield tables, (1 + hits)/(B + 1)).
+ *
+ * @example
+ * monteCarlo([[3, 1], [1, 3]], 10_000, 1).pValue; // ≈ 0.486
+ */
 export function monteCarlo(table: number[][], replicates: number, seed: number): { pValue: number; standardError: number; replicates: number } {
   return monteCarloPValue(table, { replicates, seed });
 }

@@ -26,12 +26,12 @@ export interface TableSummary {
  * @example
  * summarizeTable(Float64Array.from([10, 20, 30, 40]), 2, 2).chiSquare; // 0.7936507936507936
  */
-export function summarizeTable(sums: Float64Array, rows: number, columns: number, offset = 0): TableSummary {
+export function summarizeTable(sums: Float64Array, rows: number, columns: number): TableSummary {
   const allRows = new Float64Array(rows);
   const allColumns = new Float64Array(columns);
   let n = 0;
   for (let i = 0; i < rows; i++) {
-    const base = offset + i * columns;
+    const base = i * columns;
     let r = 0;
     for (let j = 0; j < columns; j++) {
       const v = sums[base + j];
@@ -46,7 +46,7 @@ export function summarizeTable(sums: Float64Array, rows: number, columns: number
   const rowTotals = keptRows.map((i) => allRows[i]);
   const columnTotals = keptColumns.map((j) => allColumns[j]);
   const testable = keptRows.length >= 2 && keptColumns.length >= 2;
-  const chiSquare = testable ? pearson(sums, offset, columns, keptRows, keptColumns, rowTotals, columnTotals, n) : NaN;
+  const chiSquare = testable ? pearson(sums, columns, keptRows, keptColumns, rowTotals, columnTotals, n) : NaN;
   const df = testable ? (keptRows.length - 1) * (keptColumns.length - 1) : 0;
   return { n, keptRows, keptColumns, rowTotals, columnTotals, chiSquare, df };
 }
@@ -59,7 +59,6 @@ function positive(totals: Float64Array): number[] {
 
 function pearson(
   sums: Float64Array,
-  offset: number,
   columns: number,
   keptRows: number[],
   keptColumns: number[],
@@ -70,7 +69,7 @@ function pearson(
   let x2 = 0;
   const c = keptColumns.length;
   for (let a = 0; a < keptRows.length; a++) {
-    const base = offset + keptRows[a] * columns;
+    const base = keptRows[a] * columns;
     const share = rowTotals[a] / n;
     for (let b = 0; b < c; b++) {
       const expected = share * columnTotals[b];
@@ -81,7 +80,14 @@ function pearson(
   return x2;
 }
 
-/** The kept sub-table as number[][] (the shape lib/stats takes). */
-export function keptTable(sums: Float64Array, columns: number, summary: TableSummary, offset = 0): number[][] {
-  return summary.keptRows.map((i) => summary.keptColumns.map((j) => sums[offset + i * columns + j]));
+/**
+ * The kept sub-table (rows and columns with positive totals) as number[][], the shape
+ * lib/stats takes. Cost: O(r·c).
+ *
+ * @example
+ * const sums = Float64Array.from([10, 0, 20, 0, 0, 0]); // 2 × 3, second row and column empty
+ * keptTable(sums, 3, summarizeTable(sums, 2, 3)); // [[10, 20]]
+ */
+export function keptTable(sums: Float64Array, columns: number, summary: TableSummary): number[][] {
+  return summary.keptRows.map((i) => summary.keptColumns.map((j) => sums[i * columns + j]));
 }

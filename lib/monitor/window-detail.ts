@@ -31,6 +31,9 @@ export interface WindowDetail {
  * across-window pass, for the adjusted p and flag.
  *
  * Cost: O(windowDays · groups · categories) plus one analyzeTable.
+ *
+ * @example
+ * windowDetailOf(scan, finishScan(scan).windows, null, 0).observed; // the first window's kept table
  */
 export function windowDetailOf(
   scan: PreparedScan,
