@@ -32,6 +32,8 @@ type Props = {
   categories: Category[];
   products: { code: string; name: string }[];
   correctionHint: string | null;
+  /** False when this person cannot correct this sheet now (the server decides per entry anyway). */
+  mayCorrect: boolean;
   autoFocus: boolean;
 };
 
@@ -72,7 +74,7 @@ function confirmation(item: OutboxItem, result: SheetResult): Notice {
   return { kind: "ok", title: `Saved: ${item.label}`, lines };
 }
 
-export function FloorSheet({ sheet, categories, products, correctionHint, autoFocus }: Props) {
+export function FloorSheet({ sheet, categories, products, correctionHint, mayCorrect, autoFocus }: Props) {
   const router = useRouter();
   const id = sheetId(sheet.date, sheet.shift.code, sheet.line.code);
   const label = `${sheet.line.name} · ${sheet.shift.name} · ${sheet.date}`;
@@ -295,7 +297,7 @@ export function FloorSheet({ sheet, categories, products, correctionHint, autoFo
               Record additional defects (added to what is recorded)
             </label>
             <label className="checkbox">
-              <input type="radio" name="mode" value="correct" checked={mode === "correct"} onChange={() => choose("correct")} />
+              <input type="radio" name="mode" value="correct" checked={mode === "correct"} disabled={!mayCorrect} onChange={() => choose("correct")} />
               Correct recorded counts (the numbers become the totals)
             </label>
           </fieldset>

@@ -54,12 +54,13 @@ export default async function EntryPage({ searchParams }: Search) {
           categories={sheet.categories.map((c) => ({ code: c.code, name: c.name, family: c.family, active: c.active, recorded: c.recorded }))}
           products={data.products}
           correctionHint={data.correctionHint}
+          mayCorrect={data.mayCorrect}
           autoFocus={data.explicit}
         />
       )}
       {sheet && (
         <p className="muted no-print">
-          <Link href={`/corrections?date=${sheet.date}&shift=${encodeURIComponent(sheet.shift.code)}&line=${encodeURIComponent(sheet.line.code)}`}>
+          <Link href={`/entry/corrections?date=${sheet.date}&shift=${encodeURIComponent(sheet.shift.code)}&line=${encodeURIComponent(sheet.line.code)}`}>
             Correct single entries of this sheet
           </Link>
         </p>

@@ -130,7 +130,7 @@ export default async function HistoryPage({ searchParams }: Search) {
           {data.entries.length ? <EntriesTable rows={data.entries} valueLabel="Count" /> : <p className="muted">No entries for this cell.</p>}
           {sheetQuery && (
             <p>
-              <Link href={`/history?${sheetQuery}`}>Whole sheet</Link> · <Link href={`/corrections?${sheetQuery}`}>Correct an entry</Link>
+              <Link href={`/history?${sheetQuery}`}>Whole sheet</Link> · <Link href={`/entry/corrections?${sheetQuery}`}>Correct an entry</Link>
             </p>
           )}
         </>

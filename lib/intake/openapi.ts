@@ -161,6 +161,31 @@ export function openApiDocument(): Record<string, unknown> {
           responses: submissionResponses,
         },
       },
+      "/api/v1/imports": {
+        post: {
+          summary: "Import a CSV file (the import page's upload)",
+          operationId: "postImport",
+          description:
+            "The body is the file itself (tally columns date,shift,line,category,count[,product,note] or units columns date,shift,line,units[,product]). " +
+            "All or nothing; problems are listed by file line. dryRun=1 checks only; expect=<sha256> imports only those bytes. Engineers (password sign-in) or tokens with tallies:write; addMissing needs an admin.",
+          parameters: [
+            { name: "dryRun", in: "query", required: false, schema: { type: "string", enum: ["1"] } },
+            { name: "expect", in: "query", required: false, schema: { type: "string", pattern: "^[0-9a-f]{64}$" } },
+            { name: "force", in: "query", required: false, schema: { type: "string", enum: ["1"] } },
+            { name: "addMissing", in: "query", required: false, schema: { type: "string", enum: ["1"] } },
+            { name: "X-File-Name", in: "header", required: false, schema: { type: "string" } },
+          ],
+          requestBody: { required: true, content: { "text/csv": { schema: { type: "string" } } } },
+          responses: {
+            "200": { description: "Checked (dry run): preview, nothing written." },
+            "201": { description: "Imported." },
+            "422": { description: "Refused: `problems` lists every problem as 'line N: …'. Nothing written." },
+            "401": errorResponse("No or invalid credentials."),
+            "403": errorResponse("Not an engineer, a badge session, or addMissing without admin."),
+            "413": errorResponse("File larger than 200 MiB."),
+          },
+        },
+      },
       "/api/v1/floor-sheets": {
         post: {
           summary: "One floor sheet (used by the floor entry page)",

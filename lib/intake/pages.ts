@@ -79,23 +79,26 @@ export function chooseSheet(
   };
 }
 
-export type EntryPage = SheetChoice & { sheet: SheetView | null; correctionHint: string | null };
+export type EntryPage = SheetChoice & { sheet: SheetView | null; correctionHint: string | null; mayCorrect: boolean };
 
 export function entryPageData(params: { line?: string; shift?: string; date?: string }, actor: Actor, now = new Date()): EntryPage {
   const choice = chooseSheet(params, now);
   const sheet = choice.line && choice.shift ? loadSheet(choice.date, choice.shift.id, choice.line.id) : null;
   let correctionHint: string | null = null;
+  let mayCorrect = false;
   if (sheet && choice.shift) {
-    if (actorAtLeast(actor, "engineer")) correctionHint = "As an engineer you can correct any count; each correction keeps the original and asks for a reason.";
-    else {
+    if (actorAtLeast(actor, "engineer")) {
+      mayCorrect = true;
+      correctionHint = "As an engineer you can correct any count; each correction keeps the original and asks for a reason.";
+    } else {
       const { opens, closes } = operatorCorrectionWindow(choice.shift, choice.date);
-      correctionHint =
-        now >= opens && now < closes
-          ? `You can correct your own counts of this sheet until ${clockLabel(closes)}.`
-          : "This shift's correction time for operators has passed (or not started); an engineer can correct it.";
+      mayCorrect = now >= opens && now < closes;
+      correctionHint = mayCorrect
+        ? `You can correct your own counts of this sheet until ${clockLabel(closes)}; counts recorded by others need an engineer.`
+        : `Operators can correct a shift's counts from its start until ${clockLabel(closes)}; an engineer can correct them now.`;
     }
   }
-  return { ...choice, sheet, correctionHint };
+  return { ...choice, sheet, correctionHint, mayCorrect };
 }
 
 export type CorrectionRow = {

@@ -148,7 +148,7 @@ test("an engineer imports a file with one bad row and reads the line-numbered me
 });
 
 test("an engineer corrects an entry and sees who changed what, when and why in the cell history", async ({ page }) => {
-  await signIn(page, "engineer", "/corrections?date=2020-01-06&shift=EARLY&line=P1");
+  await signIn(page, "engineer", "/entry/corrections?date=2020-01-06&shift=EARLY&line=P1");
   await expect(page.getByRole("heading", { level: 1, name: "Corrections" })).toBeVisible();
   const row = page.getByRole("row").filter({ hasText: "Flash" }).first();
   await row.getByLabel("New value").fill("5");

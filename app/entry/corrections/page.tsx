@@ -5,7 +5,7 @@ import { requirePageUser } from "@/lib/auth/guard";
 import { actorFromPrincipal } from "@/lib/intake/actor";
 import { SOURCE_LABELS, firstParam } from "@/lib/intake/format";
 import { correctionsPageData, describeCorrection } from "@/lib/intake/pages";
-import { ResultForm } from "../setup/_components/result-form";
+import { ResultForm } from "../../setup/_components/result-form";
 import { correctEntryAction } from "./actions";
 
 export const dynamic = "force-dynamic";
@@ -14,7 +14,7 @@ export const metadata: Metadata = { title: "Corrections" };
 type Search = { searchParams: Promise<Record<string, string | string[] | undefined>> };
 
 export default async function CorrectionsPage({ searchParams }: Search) {
-  const me = await requirePageUser("operator", { floor: true, path: "/corrections" });
+  const me = await requirePageUser("operator", { floor: true, path: "/entry/corrections" });
   const sp = await searchParams;
   const data = correctionsPageData({ line: firstParam(sp.line), shift: firstParam(sp.shift), date: firstParam(sp.date) }, actorFromPrincipal(me));
   const done = describeCorrection(firstParam(sp.corrected));
@@ -37,7 +37,7 @@ export default async function CorrectionsPage({ searchParams }: Search) {
           {p}
         </p>
       ))}
-      <form method="get" action="/corrections" className="card form-row no-print" aria-label="Choose the sheet">
+      <form method="get" action="/entry/corrections" className="card form-row no-print" aria-label="Choose the sheet">
         <div className="field">
           <label htmlFor="c-line">Line</label>
           <select id="c-line" name="line" defaultValue={data.line?.code}>
@@ -120,7 +120,7 @@ export default async function CorrectionsPage({ searchParams }: Search) {
                         <input type="hidden" name="idempotencyKey" value={randomUUID()} />
                         <input type="hidden" name="kind" value={r.kind} />
                         <input type="hidden" name="entryId" value={r.id} />
-                        <input type="hidden" name="back" value={`/corrections?${q}`} />
+                        <input type="hidden" name="back" value={`/entry/corrections?${q}`} />
                         <div className="field">
                           <label htmlFor={`v-${r.kind}-${r.id}`}>New value</label>
                           <input id={`v-${r.kind}-${r.id}`} name="value" inputMode="numeric" required defaultValue={r.value} />

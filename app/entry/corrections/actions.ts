@@ -27,12 +27,11 @@ export async function correctEntryAction(_prev: ActionResult, form: FormData): P
   });
   switch (outcome.status) {
     case "created": {
-      revalidatePath("/corrections");
-      revalidatePath("/entry");
+      revalidatePath("/entry", "layout");
       // Back to the same sheet, naming the new entry (the row's form is replaced by the new entry's).
       const back = String(form.get("back") ?? "");
       const marker = outcome.result.tallyEntryIds.length ? `t${outcome.result.tallyEntryIds[0]}` : `u${outcome.result.inspectionIds[0]}`;
-      redirect(`${back.startsWith("/corrections?") ? back : "/corrections?"}&corrected=${marker}`);
+      redirect(`${back.startsWith("/entry/corrections?") ? back : "/entry/corrections?"}&corrected=${marker}`);
     }
     case "replay":
       return { ok: true, message: "Already saved." };
@@ -42,7 +41,7 @@ export async function correctEntryAction(_prev: ActionResult, form: FormData): P
       return { ok: false, status: 403, error: outcome.message };
     case "stale":
     case "conflict":
-      revalidatePath("/corrections");
+      revalidatePath("/entry/corrections");
       return { ok: false, status: 409, error: outcome.message };
   }
 }
