@@ -30,8 +30,17 @@ export function dayNumber(iso: string): number {
  * isoDate(20_454); // "2026-01-01"
  */
 export function isoDate(day: number): string {
-  return new Date(day * MS_PER_DAY).toISOString().slice(0, 10);
+  // A scan names every window's start and end: a few thousand distinct days, many calls.
+  let iso = isoCache.get(day);
+  if (iso === undefined) {
+    iso = new Date(day * MS_PER_DAY).toISOString().slice(0, 10);
+    if (isoCache.size < ISO_CACHE_LIMIT) isoCache.set(day, iso);
+  }
+  return iso;
 }
+
+const ISO_CACHE_LIMIT = 100_000;
+const isoCache = new Map<number, string>();
 
 /**
  * The ISO date `days` calendar days after `iso` (negative goes back).

@@ -160,7 +160,7 @@ export function rateWindow(start: string, end: string, labels: string[], defects
     const g = groups[i];
     g.lower = test.lower[k];
     g.upper = test.upper[k];
-    g.outside = g.defectsPerUnit! > g.upper ? "above" : g.defectsPerUnit! < g.lower ? "below" : null;
+    g.outside = test.outside[k];
   });
   Object.assign(window, { testable: true, pooledRate: test.pooledRate, statistic: test.statistic, df: test.df, pValue: test.pValue });
   return window;

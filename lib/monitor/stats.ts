@@ -1,20 +1,24 @@
 /**
  * The one place lib/monitor touches lib/stats: re-exports what the scan calls and adapts
  * the sparse-table helpers to the small shapes the window test needs, so an API change
- * in lib/stats is absorbed here.
+ * in lib/stats is absorbed here. No statistic is computed in this file.
  */
-import { analyzeTable, type TableAnalysis } from "@/lib/stats/analyze-table";
-import { chiSquareUpperTail } from "@/lib/stats/chi-square-upper-tail";
-import { cramersVCorrected } from "@/lib/stats/cramers-v";
-import { checkExpectedCounts } from "@/lib/stats/expected-count-check";
-import { exactIsFeasible, exactPValue } from "@/lib/stats/fisher-exact";
-import { monteCarloPValue } from "@/lib/stats/monte-carlo";
+import {
+  adjustPValues,
+  analyzeTable,
+  checkExpectedCounts,
+  chiSquareUpperTail,
+  cramersVCorrected,
+  driverCriticalValue,
+  exactIsFeasible,
+  exactPValue,
+  monteCarloPValue,
+  poolSparseCategories,
+  rateHomogeneity,
+  type TableAnalysis,
+} from "@/lib/stats";
 
 export { analyzeTable, chiSquareUpperTail, checkExpectedCounts, cramersVCorrected, type TableAnalysis };
-
-function pending(name: string): never {
-  throw new Error(`lib/stats has no ${name} yet`);
-}
 
 /**
  * Step budget of the exact test inside a scan: a tenth of lib/stats's default, because a
@@ -51,30 +55,77 @@ export function monteCarlo(table: number[][], replicates: number, seed: number):
   return monteCarloPValue(table, { replicates, seed });
 }
 
-/** Sparse categories pooled (family first, then smallest): the pooled table and what went where. */
+/**
+ * Sparse categories pooled until Cochran's rule holds (lib/stats poolSparseCategories:
+ * family first, then smallest): the pooled table, its column labels and what went where.
+ * Null when pooling cannot reach the rule before two columns are left (the caller then
+ * tests the unpooled table exactly or by Monte Carlo instead).
+ *
+ * @example
+ * poolColumns([[20, 30, 1, 2], [25, 28, 0, 3]], ["A", "B", "C", "D"], undefined)?.columns; // ["A", "B", "Other (pooled)"]
+ */
 export function poolColumns(
-  _table: number[][],
-  _categories: string[],
-  _families: Record<string, string> | undefined,
+  table: number[][],
+  categories: string[],
+  families: Record<string, string> | undefined,
 ): { table: number[][]; columns: string[]; merged: { label: string; members: string[] }[] } | null {
-  return pending("poolSparseCategories");
+  const pooled = poolSparseCategories(table, { columnLabels: categories, families, rule: "cochran" });
+  if (!pooled.ruleSatisfied) return null;
+  return {
+    table: pooled.observed,
+    columns: pooled.labels,
+    merged: pooled.columns.filter((c) => c.sources.length > 1).map((c) => ({ label: c.label, members: c.sources })),
+  };
 }
 
-/** Across-window adjustment of p-values. */
+/**
+ * Across-window adjustment (lib/stats adjustPValues, as R's p.adjust); "none" returns p.
+ *
+ * @example
+ * adjust([0.01, 0.04, 0.03], "bh"); // [0.03, 0.04, 0.04]
+ */
 export function adjust(p: number[], method: "bh" | "bonferroni" | "none"): number[] {
-  if (method === "none") return p;
-  return pending("adjustPValues");
+  return method === "none" ? p : adjustPValues(p, method);
 }
 
-/** Critical |adjusted residual| for r·c cells at level α (Bonferroni, two-sided). */
-export function driverCritical(_rows: number, _columns: number, _alpha: number): number {
-  return pending("driverCriticalValue");
+/**
+ * Critical |adjusted residual| for r·c cells at level α (lib/stats driverCriticalValue:
+ * Bonferroni two-sided normal quantile z_{1−α/(2rc)}).
+ *
+ * @example
+ * driverCritical(2, 3, 0.05); // 2.638…
+ */
+export function driverCritical(rows: number, columns: number, alpha: number): number {
+  return driverCriticalValue(rows, columns, alpha);
 }
 
-/** Poisson rate homogeneity across groups plus u-chart limits around the pooled rate. */
+/**
+ * Poisson rate homogeneity across groups plus u-chart limits around the pooled rate
+ * (lib/stats rateHomogeneity), in the shape the rate window stores.
+ *
+ * @example
+ * rateTest([10, 30], [100, 100]).statistic; // 10
+ */
 export function rateTest(
-  _defects: number[],
-  _units: number[],
-): { statistic: number; df: number; pValue: number; pooledRate: number; lower: number[]; upper: number[] } {
-  return pending("rateHomogeneity");
+  defects: number[],
+  units: number[],
+): {
+  statistic: number;
+  df: number;
+  pValue: number;
+  pooledRate: number;
+  lower: number[];
+  upper: number[];
+  outside: ("above" | "below" | null)[];
+} {
+  const r = rateHomogeneity(defects, units);
+  return {
+    statistic: r.chiSquare,
+    df: r.df,
+    pValue: r.pValue,
+    pooledRate: r.uBar,
+    lower: r.perGroup.map((g) => g.lowerLimit),
+    upper: r.perGroup.map((g) => g.upperLimit),
+    outside: r.perGroup.map((g) => g.outside),
+  };
 }
