@@ -81,4 +81,38 @@ describe("sparse windows", () => {
       expect(windows.every((w) => w.method === "asymptotic" && w.pooled === null)).toBe(true);
     }
   });
+
+  it("pool: merges sparse categories by family first, says what it merged, and tests the pooled table", () => {
+    const rows: TallyRow[] = [];
+    const usual: Record<string, number> = { SCR: 12, DNT: 10, PNT: 9, WLD: 8, BUR: 1, CHP: 1, LEAK: 1, SEAL: 0 };
+    for (let d = 0; d < 4; d++) {
+      for (const line of ["L1", "L2", "L3"]) {
+        for (const [category, n] of Object.entries(usual)) {
+          const count = n + ((d + line.charCodeAt(1)) % 2) + (category === "SEAL" && line === "L2" ? 1 : 0);
+          rows.push({ date: addDays("2026-05-04", d), line, shift: "A", category, count });
+        }
+      }
+    }
+    const families = { BUR: "edge", CHP: "edge", LEAK: "seal", SEAL: "seal" };
+    const pooled = scanWindows(rows, { ...config, sparse: "pool", families }).windows;
+    for (const w of pooled) {
+      expect(w.expectedCounts!.cochran).toBe(false); // of the window's own table, before pooling
+      expect(w.method).toBe("asymptotic");
+      expect(w.pooled).toEqual({
+        columns: ["edge", "DNT", "seal", "PNT", "SCR", "WLD"],
+        merged: [
+          { label: "edge", members: ["BUR", "CHP"] },
+          { label: "seal", members: ["LEAK", "SEAL"] },
+        ],
+      });
+      expect(w.df).toBe(2 * 5);
+      expect(w.categories).toHaveLength(8);
+    }
+    // Without families the smallest categories go into one catch-all column.
+    const catchAll = scanWindows(rows, { ...config, sparse: "pool" }).windows[0];
+    expect(catchAll.pooled!.merged).toHaveLength(1);
+    expect(catchAll.pooled!.merged[0]).toEqual({ label: "Other (pooled)", members: ["BUR", "CHP", "SEAL"] });
+    // auto on the same windows: no pooling, a resampling method instead.
+    expect(scanWindows(rows, { ...config, families }).windows.every((w) => w.pooled === null && w.method !== "asymptotic")).toBe(true);
+  });
 });
