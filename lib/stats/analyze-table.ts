@@ -32,7 +32,7 @@ export interface TableAnalysis {
   gLog10PValue: number;
   /** Cramér's V = √(X²/(n (min(r, c) − 1))). */
   cramersV: number;
-  /** Bergsma's bias-corrected V (NaN when n ≤ max(r, c)). */
+  /** Bergsma's bias-corrected V (0 when X²/n is within its small-sample bias). */
   cramersVCorrected: number;
   /** (O − E)/√E. */
   pearsonResiduals: number[][];
@@ -184,7 +184,7 @@ function rescale(matrix: number[][], total: number): void {
  * few microseconds.
  *
  * @example
- * analyzeTable([[762, 327, 468], [484, 239, 477]]).chiSquare; // 30.070149095754687  (Agresti 2007, Table 2.5)
+ * analyzeTable([[762, 327, 468], [484, 239, 477]]).chiSquare; // 30.07014909575468  (Agresti 2007, Table 2.5)
  */
 export function analyzeTable(observed: readonly (readonly number[])[]): TableAnalysis {
   const { rows, columns, n, rowTotals, columnTotals, maxCount } = validateTable(observed);

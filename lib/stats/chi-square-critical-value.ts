@@ -28,7 +28,7 @@ function wilsonHilferty(alpha: number, df: number): number {
  * Cost: typically 4–8 upper-tail evaluations.
  *
  * @example
- * chiSquareCriticalValue(0.05, 1); // 3.841458820694124
+ * chiSquareCriticalValue(0.05, 1); // 3.841458820694128  (R: 3.841458820694124)
  */
 export function chiSquareCriticalValue(alpha: number, df: number): number {
   if (!(alpha > 0 && alpha < 1)) {

@@ -24,7 +24,7 @@ function checkStatistic(x: number): void {
  * Cost: O(√df) iterations at worst (x near df), typically under 100.
  *
  * @example
- * chiSquareUpperTail(3.841458820694124, 1); // 0.05
+ * chiSquareUpperTail(3.841458820694124, 1); // ≈ 0.05  (0.05000000000000012)
  */
 export function chiSquareUpperTail(x: number, df: number): number {
   checkDf(df);

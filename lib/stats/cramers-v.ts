@@ -15,7 +15,7 @@ function checkArguments(chiSquare: number, n: number, rows: number, columns: num
  * biased upwards in small or sparse tables; see {@link cramersVCorrected}.
  *
  * @example
- * cramersV(30.0701491, 2757, 2, 3); // 0.10443…  (Agresti's party-identification table)
+ * cramersV(30.0701491, 2757, 2, 3); // 0.1044358…  (Agresti's party-identification table)
  */
 export function cramersV(chiSquare: number, n: number, rows: number, columns: number): number {
   checkArguments(chiSquare, n, rows, columns);
@@ -28,12 +28,12 @@ export function cramersV(chiSquare: number, n: number, rows: number, columns: nu
  * φ̃² = max(0, φ² − (c−1)(r−1)/(n−1)) with φ² = X²/n,
  * c̃ = c − (c−1)²/(n−1), r̃ = r − (r−1)²/(n−1), Ṽ = √(φ̃² / min(c̃−1, r̃−1)).
  *
- * Returns 0 when φ̃² = 0, and NaN when the correction leaves no room
- * (min(c̃−1, r̃−1) ≤ 0, i.e. n ≤ max(r, c) — too few observations for an
- * effect size).
+ * Returns 0 when φ̃² = 0 (which covers the tiny tables, n ≤ max(r, c), where
+ * min(c̃−1, r̃−1) ≤ 0 in our checks); NaN is kept as a guard should that
+ * denominator ever be ≤ 0 with φ̃² > 0.
  *
  * @example
- * cramersVCorrected(30.0701491, 2757, 2, 3); // 0.10125…
+ * cramersVCorrected(30.0701491, 2757, 2, 3); // 0.1009199…
  */
 export function cramersVCorrected(chiSquare: number, n: number, rows: number, columns: number): number {
   checkArguments(chiSquare, n, rows, columns);

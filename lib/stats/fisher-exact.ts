@@ -16,7 +16,7 @@ export interface ExactFeasibility {
   feasible: boolean;
   /** Plain-language reason, for logs and the UI. */
   reason: string;
-  /** Upper bound on the enumeration steps the bounds pass can take. */
+  /** Estimated enumeration steps (an empirical overestimate, see exactIsFeasible). */
   estimatedSteps: number;
   /** Step budget compared against. */
   maxSteps: number;
@@ -414,7 +414,7 @@ function countUpTo(values: Float64Array, limit: number): number {
  * hundred milliseconds; the work grows steeply with n and with min(r, c).
  *
  * @example
- * exactPValue([[3, 1], [1, 3]]); // 0.4857142857142857  (Fisher's tea tasting; R: 0.4857)
+ * exactPValue([[3, 1], [1, 3]]); // 0.4857142857142857  (= 34/70, Fisher's tea tasting; R: 0.4857)
  */
 export function exactPValue(observed: readonly (readonly number[])[], options: ExactOptions = {}): number {
   return fisherExactTest(observed, options).pValue;
@@ -522,24 +522,25 @@ function checkMaxSteps(maxSteps: number | undefined): number {
   return value;
 }
 
-// C(a + b, b) in floating point, enough for an order-of-magnitude bound.
-function choose(a: number, b: number): number {
-  let c = 1;
-  for (let i = 1; i <= b; i++) c = (c * (a + i)) / i;
-  return c;
-}
+// Empirical work model, fitted by least squares to the steps taken on 250
+// random tables (2 ≤ r ≤ 5, r ≤ c ≤ 30, 10 ≤ n ≤ 300, flat and skewed margins):
+// log10 steps ≈ 0.161 S + 0.523 r + 1.282 log10 n − 1.142, where S = Σ_j
+// log10 C(C_j + r − 1, r − 1) counts the ways to split each column ignoring
+// the row totals; residual sd 0.55. The margin (+1.19, the largest residual)
+// makes the estimate exceed the actual work on every one of those tables.
+const MODEL = { split: 0.161, rows: 0.523, logN: 1.282, intercept: -1.142, margin: 1.19 };
 
 /**
- * Cheap screen for {@link exactPValue}: an upper bound on the steps its
- * bounds pass can take, compared with the step budget.
+ * Cheap screen for {@link exactPValue}: an estimate of the enumeration steps
+ * it will take, compared with the step budget.
  *
- * Method: at stage k (columns in processing order, the shorter side as rows)
- * the states are sorted vectors of remaining row totals summing to m_k, at
- * most min(C(m_k + r − 1, r − 1)/r!·(a little), Π(R_i + 1)), and each state
- * tries at most C(c_k + r − 1, r − 1) ways to fill the column; the bound is
- * Σ_k states_k · ways_k. It is conservative for the bounds pass; the
- * enumeration pass is usually far smaller, but can in rare cases exceed it,
- * so callers should still catch the RangeError of exactPValue.
+ * Method: an empirical model of the network algorithm's work (fitted on 250
+ * random 2×c to 5×c tables, n ≤ 300), log10 steps ≈ 0.161 S + 0.523 r +
+ * 1.282 log10 n − 1.142 + 1.19, with r the shorter side and S =
+ * Σ_j log10 C(C_j + r − 1, r − 1); the +1.19 margin made it an overestimate
+ * for every fitted table. It is a screen, not a guarantee: "feasible" tables
+ * almost always finish, and callers should still catch the RangeError of
+ * exactPValue; "not feasible" ones sometimes would have finished.
  *
  * Cost: O(r·c).
  *
@@ -553,22 +554,16 @@ export function exactIsFeasible(
   const maxSteps = checkMaxSteps(options.maxSteps);
   const { rowTotals, columnTotals, n } = toProblem(observed);
   const r = rowTotals.length;
-  let productBound = 1;
-  for (const t of rowTotals) productBound *= t + 1;
-  let rFactorial = 1;
-  for (let i = 2; i <= r; i++) rFactorial *= i;
-  let remaining = n;
-  let estimatedSteps = 0;
-  for (const c of columnTotals) {
-    const states = Math.min(productBound, choose(remaining, r - 1) / rFactorial + choose(remaining, r - 2));
-    estimatedSteps += states * choose(c, r - 1);
-    remaining -= c;
-  }
-  estimatedSteps = Math.ceil(estimatedSteps);
+  const lf = logFactorialTable(n + r);
+  let split = 0;
+  for (const c of columnTotals) split += (lf[c + r - 1] - lf[r - 1] - lf[c]) / Math.LN10;
+  const log10Steps =
+    MODEL.split * split + MODEL.rows * r + MODEL.logN * Math.log10(n) + MODEL.intercept + MODEL.margin;
+  const estimatedSteps = Math.ceil(Math.pow(10, log10Steps));
   const feasible = estimatedSteps <= maxSteps;
-  const shape = `${r}×${columnTotals.length} (after putting the shorter side first), n = ${n}`;
+  const shape = `a ${r}×${columnTotals.length} table (shorter side first) with n = ${n}`;
   const reason = feasible
-    ? `exact enumeration is bounded by about ${estimatedSteps.toLocaleString("en-US")} steps for ${shape}, within the budget of ${maxSteps.toLocaleString("en-US")}`
-    : `exact enumeration could take up to ${estimatedSteps.toLocaleString("en-US")} steps for ${shape}, over the budget of ${maxSteps.toLocaleString("en-US")}; use monteCarloPValue`;
+    ? `exact enumeration of ${shape} should take under ${estimatedSteps.toLocaleString("en-US")} steps, within the budget of ${maxSteps.toLocaleString("en-US")}`
+    : `exact enumeration of ${shape} may take up to ${estimatedSteps.toLocaleString("en-US")} steps, over the budget of ${maxSteps.toLocaleString("en-US")}; use monteCarloPValue`;
   return { feasible, reason, estimatedSteps, maxSteps };
 }

@@ -48,7 +48,7 @@ export {
   type RandomTableSampler,
   type RandomTableSamplerOptions,
 } from "./patefield";
-export { createXoroshiroStream, type XoroshiroStream } from "./xoroshiro-stream";
+export { createXoroshiroStream, WARM_UP, type XoroshiroStream } from "./xoroshiro-stream";
 export { monteCarloPValue, type MonteCarloOptions, type MonteCarloResult } from "./monte-carlo";
 export { adjustPValues, type PAdjustMethod } from "./p-adjust";
 export {

@@ -8,8 +8,9 @@ let cache = new Float64Array(0);
 /**
  * Table of ln k! for k = 0..n, shared across calls and grown on demand.
  *
- * Method: ln k! = ln Γ(k+1) evaluated independently for each k (Stirling series,
- * see {@link logGamma}), so errors do not accumulate the way a running sum
+ * Method: for k ≤ 170, the log of k! itself (a double, exact up to 22!);
+ * beyond, ln Γ(k+1) by Stirling's series (see {@link logGamma}), evaluated
+ * independently for each k so errors do not accumulate the way a running sum
  * of ln k does (R's chisq_sim uses the running sum; the difference reaches
  * ~1e-9 absolute near k = 10⁶). Every exact and Monte Carlo routine here
  * reads from this one table.
@@ -33,7 +34,14 @@ export function logFactorialTable(n: number): Float64Array {
   const size = Math.min(LOG_FACTORIAL_TABLE_LIMIT + 1, Math.max(n + 1, 2 * cache.length, 1024));
   const table = new Float64Array(size);
   table.set(cache);
-  for (let k = Math.max(cache.length, 2); k < size; k++) table[k] = logGamma(k + 1);
+  // Up to 170! the factorial itself is a double (exact to 22!), so its log is good to an
+  // ulp or two; beyond, Stirling's series.
+  let factorial = 1;
+  for (let k = 2; k < Math.min(size, 171); k++) {
+    factorial *= k;
+    if (k >= cache.length) table[k] = Math.log(factorial);
+  }
+  for (let k = Math.max(cache.length, 171); k < size; k++) table[k] = logGamma(k + 1);
   cache = table;
   return table;
 }

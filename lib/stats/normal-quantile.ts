@@ -13,7 +13,7 @@
  * Cost: O(1), one logarithm and one square root in the tails.
  *
  * @example
- * normalQuantile(0.975); // 1.959963984540054
+ * normalQuantile(0.975); // 1.9599639845400536
  */
 export function normalQuantile(p: number): number {
   if (!(p >= 0 && p <= 1)) throw new RangeError(`normalQuantile needs 0 ≤ p ≤ 1 (got ${p})`);

@@ -9,7 +9,7 @@ import { validateTable } from "./validate-table";
  * a cell is; prefer {@link adjustedResidual} for flagging cells.
  *
  * @example
- * pearsonResidual(762, 703.671, ); // ≈ 2.199  (Agresti's party-identification table, female Democrats)
+ * pearsonResidual(3, 2); // 0.7071067811865475  (tea-tasting table, cell [0][0]: (3 − 2)/√2)
  */
 export function pearsonResidual(observed: number, expected: number): number {
   return (observed - expected) / Math.sqrt(expected);

@@ -14,7 +14,7 @@ const LOG_TWO_PI = 1.837877066409345483560659472811;
  * Cost: O(1) direct, a few dozen terms at most on the series branch.
  *
  * @example
- * bd0(10, 12); // 0.17678443081621…  (= 10 ln(10/12) + 2)
+ * bd0(10, 12); // 0.176784432060…  (= 10 ln(10/12) + 2)
  */
 export function bd0(x: number, m: number): number {
   if (!(m > 0) || !(x >= 0) || !Number.isFinite(x) || !Number.isFinite(m)) {
@@ -48,7 +48,7 @@ export function bd0(x: number, m: number): number {
  * Cost: O(1).
  *
  * @example
- * logPoissonDensity(3, 2.5); // −1.5726…  (= ln(2.5³ e^{−2.5}/3!))
+ * logPoissonDensity(3, 2.5); // −1.542887273605…  (= ln(2.5³ e^{−2.5}/3!))
  */
 export function logPoissonDensity(a: number, x: number): number {
   if (!(a >= 0) || !(x >= 0)) {

@@ -159,7 +159,7 @@ function smallestMerge(groups: Group[], pooledLabel: string): PoolStep {
  * Cost: O(c) merges, each O(r·c) to re-check the rule.
  *
  * @example
- * poolSparseCategories([[20, 30, 1, 2], [25, 28, 0, 3]], { columnLabels: ["A", "B", "C", "D"], rule: "cochran" }).labels; // ["A", "B", "Other (pooled)"]
+ * poolSparseCategories([[20, 30, 12, 9, 1, 2], [25, 28, 15, 11, 0, 3]], { columnLabels: ["A", "B", "C", "D", "E", "F"], rule: "cochran" }).labels; // ["A","B","C","D","Other (pooled)"]
  */
 export function poolSparseCategories(observed: readonly (readonly number[])[], options: PoolOptions): PoolResult {
   const { rows, columns, rowTotals, columnTotals } = validateTable(observed);
