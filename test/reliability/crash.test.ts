@@ -35,7 +35,7 @@ const OUT = path.join(REPO, "node_modules", ".cache", "linemix-reliability");
 let ctx: Awaited<ReturnType<typeof useTempDatabase>>;
 let plant: Plant;
 let dbFile: string;
-const env = () => ({ ...process.env, DATABASE_URL: ctx.url, NODE_ENV: "production" });
+const env = (): NodeJS.ProcessEnv => ({ ...process.env, DATABASE_URL: ctx.url, NODE_ENV: "production" });
 
 beforeAll(async () => {
   ctx = await useTempDatabase();
