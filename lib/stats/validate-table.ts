@@ -80,8 +80,9 @@ export function validateTable(observed: readonly (readonly number[])[]): TableMa
     for (let j = 0; j < columns; j++) {
       const value = row[j];
       // Fast path for counts below 2³¹; anything else (NaN, ±∞, fractions,
-      // negatives, large integers) takes the careful test.
-      if ((value | 0) !== value || value < 0) checkCount(value, i, j);
+      // negatives, large integers, and non-numbers such as the BigInt a raw SQL
+      // SUM can return, on which `| 0` would throw a TypeError) takes the careful test.
+      if (typeof value !== "number" || (value | 0) !== value || value < 0) checkCount(value, i, j);
       if (value > maxCount) maxCount = value;
       sum += value;
       columnTotals[j] += value;
