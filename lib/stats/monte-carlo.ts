@@ -1,3 +1,4 @@
+import { LOG_FACTORIAL_TABLE_LIMIT } from "./log-factorial";
 import { createRandomTableSampler } from "./patefield";
 import { validateTable } from "./validate-table";
 
@@ -77,6 +78,11 @@ export function monteCarloPValue(
 ): MonteCarloResult {
   const { replicates, seed } = checkOptions(options);
   const { rows, columns, n, rowTotals, columnTotals } = validateTable(observed);
+  if (n > LOG_FACTORIAL_TABLE_LIMIT) {
+    throw new RangeError(
+      `Monte Carlo p-values are limited to n ≤ ${LOG_FACTORIAL_TABLE_LIMIT.toLocaleString("en-US")} (got ${n}); at that size use the chi-square p-value`,
+    );
+  }
   const inverseExpected = new Float64Array(rows * columns);
   const flat = new Float64Array(rows * columns);
   for (let i = 0; i < rows; i++) {

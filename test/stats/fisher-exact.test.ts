@@ -105,3 +105,22 @@ describe("work limits", () => {
     expect(() => exactPValue([[1, 2], [3, 4]], { maxSteps: 0 })).toThrow(RangeError);
   });
 });
+
+describe("2×2 tables with large counts", () => {
+  it("are feasible and exact: [[60, 40], [30, 70]] against the hypergeometric sum", () => {
+    const table = [
+      [60, 40],
+      [30, 70],
+    ];
+    expect(exactIsFeasible(table).feasible).toBe(true);
+    // Brute force over the single free cell x11 (row totals 100, 100; column totals 90, 110).
+    const lf = [0];
+    for (let k = 1; k <= 200; k++) lf.push(lf[k - 1] + Math.log(k));
+    const logP = (x: number) =>
+      lf[100] + lf[100] + lf[90] + lf[110] - lf[200] - lf[x] - lf[100 - x] - lf[90 - x] - lf[10 + x];
+    const observed = logP(60);
+    let p = 0;
+    for (let x = 0; x <= 90; x++) if (logP(x) <= observed + 1e-7) p += Math.exp(logP(x));
+    expect(relativeError(exactPValue(table), p)).toBeLessThan(1e-9);
+  });
+});
