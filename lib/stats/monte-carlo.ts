@@ -38,8 +38,9 @@ function checkOptions(options: MonteCarloOptions): { replicates: number; seed: n
   return { replicates, seed: seed | 0 };
 }
 
-// Σ O²/E in row-major order: X² + n. Same code for the observed and the
-// simulated tables, so a simulated copy of the observed table gives the same bits.
+// Σ O²/E = X² + n. The sampler sums the same terms in its own cell order, so a
+// simulated copy of the observed table can differ in the last bits: the
+// 4·r·c·ε·ΣO²/E term of the threshold absorbs that.
 function sumSquaresOverExpected(table: ArrayLike<number>, inverseExpected: Float64Array): number {
   let s = 0;
   for (let k = 0; k < inverseExpected.length; k++) {
@@ -59,15 +60,17 @@ function sumSquaresOverExpected(table: ArrayLike<number>, inverseExpected: Float
  * 1997, Bootstrap Methods, §4.2; Hope 1968), as R's
  * chisq.test(simulate.p.value = TRUE). Like R, which counts X²_sim ≥
  * (1 − 64ε) X²_obs, a small tolerance makes ties count: a simulated table
- * counts when ΣO²/E ≥ ΣO²/E_obs − (64ε X²_obs + 2⁻⁴⁰ n), the second term
- * covering the rounding of a sum of r·c terms of size up to n. The generator
+ * counts when ΣO²/E ≥ ΣO²/E_obs − (64ε X²_obs + 4·r·c·ε ΣO²/E_obs), the
+ * second term bounding the rounding of a sum of r·c positive terms (the
+ * simulated sums are taken in another cell order). The generator
  * is pure-rand's xoroshiro128+, so a seed reproduces the result exactly.
  * standardError = √(p(1 − p)/B).
  *
  * Throws a RangeError for an invalid table (see validateTable) or options.
  *
- * Cost: B · (at most (r−1)(c−1) hypergeometric draws + r·c multiply-adds);
- * 10,000 replicates of a 20×40 table with n ≈ 5,000 take well under 150 ms.
+ * Cost: B · (at most (r−1)(c−1) hypergeometric draws, each ~50 ns); 10,000
+ * replicates of a 20×40 table with n ≈ 5,000 (7.4 million draws) take about
+ * 0.4 s of CPU on a 2.6 GHz core, on a par with R's compiled rcont2.
  *
  * @example
  * monteCarloPValue([[3, 1], [1, 3]], { replicates: 10_000, seed: 1 }).pValue; // 0.49135086491350866  (exact: 0.4857, Fisher's tea tasting)
@@ -93,7 +96,8 @@ export function monteCarloPValue(
   }
   const observedSum = sumSquaresOverExpected(flat, inverseExpected);
   const statistic = Math.max(0, observedSum - n);
-  const threshold = observedSum - (64 * EPSILON * statistic + 2 ** -40 * n);
+  // R's 64ε on X², plus the rounding bound of a sum of r·c positive terms.
+  const threshold = observedSum - (64 * EPSILON * statistic + 4 * rows * columns * EPSILON * observedSum);
   const sampler = createRandomTableSampler(rowTotals, columnTotals, { seed, weights: inverseExpected });
   let hits = 0;
   for (let b = 0; b < replicates; b++) {
