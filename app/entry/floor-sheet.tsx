@@ -144,15 +144,18 @@ export function FloorSheet({ sheet, categories, products, correctionHint, mayCor
   }, [waiting]);
 
   function choose(next: Mode) {
-    setChosen(next);
     setNotice(null);
     if (next === "correct") {
+      // The numbers become the totals: start from what is recorded.
       setValues(Object.fromEntries(categories.map((c) => [c.code, String(c.recorded)])));
       setUnits(sheet.recordedUnits === null ? "" : String(sheet.recordedUnits));
-    } else {
+    } else if (chosen === "correct") {
+      // Totals are not additions: start additional counts from zero.
       setValues({});
       setUnits("");
     }
+    // Otherwise numbers already typed (e.g. a sheet someone else recorded meanwhile) stay for review.
+    setChosen(next);
   }
 
   const errors: Record<string, string> = {};

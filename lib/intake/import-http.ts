@@ -7,8 +7,8 @@ import { importCsv, type ImportOutcome } from "./import";
 /**
  * POST /api/v1/imports — the import page's upload (the file is the request body, read
  * as a stream). ?dryRun=1 checks and previews; ?expect=<sha256> imports only the very
- * bytes that were previewed. Engineers (password sign-in) and tokens with
- * tallies:write may import; creating missing codes needs an admin.
+ * bytes that were previewed. Engineers signed in with a password may import (API
+ * tokens send rows to /api/v1/tallies instead); creating missing codes needs an admin.
  */
 
 export const MAX_UPLOAD_BYTES = 200 * 1024 * 1024;
@@ -53,7 +53,10 @@ export function previewOf(outcome: ImportOutcome): ImportPreview {
 const json = (status: number, body: unknown) => Response.json(body, { status, headers: { "cache-control": "no-store" } });
 
 export async function postImport(request: Request, principal: Principal): Promise<Response> {
-  if (principal.kind === "user" && (!roleAtLeast(principal.role, "engineer") || principal.sessionKind === "badge")) {
+  if (principal.kind === "token") {
+    return json(403, { error: "CSV imports are made by engineers (the import page or npm run import); machines send rows to POST /api/v1/tallies.", code: "forbidden" });
+  }
+  if (!roleAtLeast(principal.role, "engineer") || principal.sessionKind === "badge") {
     return json(403, { error: "Imports are for engineers signed in with a password.", code: "forbidden" });
   }
   const url = new URL(request.url);

@@ -167,7 +167,7 @@ export function openApiDocument(): Record<string, unknown> {
           operationId: "postImport",
           description:
             "The body is the file itself (tally columns date,shift,line,category,count[,product,note] or units columns date,shift,line,units[,product]). " +
-            "All or nothing; problems are listed by file line. dryRun=1 checks only; expect=<sha256> imports only those bytes. Engineers (password sign-in) or tokens with tallies:write; addMissing needs an admin.",
+            "All or nothing; problems are listed by file line. dryRun=1 checks only; expect=<sha256> imports only those bytes. Engineers signed in with a password (not API tokens); addMissing needs an admin.",
           parameters: [
             { name: "dryRun", in: "query", required: false, schema: { type: "string", enum: ["1"] } },
             { name: "expect", in: "query", required: false, schema: { type: "string", pattern: "^[0-9a-f]{64}$" } },
@@ -181,7 +181,7 @@ export function openApiDocument(): Record<string, unknown> {
             "201": { description: "Imported." },
             "422": { description: "Refused: `problems` lists every problem as 'line N: …'. Nothing written." },
             "401": errorResponse("No or invalid credentials."),
-            "403": errorResponse("Not an engineer, a badge session, or addMissing without admin."),
+            "403": errorResponse("Not an engineer, a badge session, an API token, or addMissing without admin."),
             "413": errorResponse("File larger than 200 MiB."),
           },
         },

@@ -39,6 +39,11 @@ describe("POST /api/v1/imports (the import page's upload)", () => {
     expect((await POST(upload("dryRun=1", FILE, "badge"))).status).toBe(403);
     expect((await POST(upload("dryRun=1&addMissing=1", FILE, "engineer"))).status).toBe(403);
     expect((await POST(upload("dryRun=1&addMissing=1", FILE, "admin"))).status).toBe(200);
+    // Machines send rows to /api/v1/tallies; a token (either scope) cannot import files.
+    for (const token of [plant.tokens.write, plant.tokens.read, plant.tokens.both]) {
+      const r = await POST(new Request(`http://${HOST}/api/v1/imports?dryRun=1`, { method: "POST", headers: { authorization: `Bearer ${token}` }, body: FILE }));
+      expect(r.status).toBe(403);
+    }
   });
 
   it("previews without writing, imports only the previewed bytes, then refuses the same file", async () => {

@@ -49,9 +49,10 @@ function Fields({ kind, row, idPrefix }: { kind: MasterKind; row?: MasterRow; id
 
 export default async function SetupKindPage({ params }: Props) {
   const { kind: raw } = await params;
+  // The guard first: an unknown kind is a 404 only for those allowed to see setup.
+  await requirePageUser("admin", { path: `/setup/${encodeURIComponent(raw)}` });
   const kind = SETUP_KINDS.find((k) => k === raw);
   if (!kind) notFound();
-  await requirePageUser("admin", { path: `/setup/${kind}` });
   const rows = await listMaster(kind);
   const label = MASTER_LABELS[kind];
   return (
