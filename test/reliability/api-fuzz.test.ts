@@ -47,7 +47,7 @@ async function send(route: Route, body: string | Uint8Array, headers: Record<str
     new Request(`http://plant.example:3000${route.path}`, {
       method: "POST",
       headers: { "content-type": "application/json", authorization: `Bearer ${plant.tokens.write}`, "idempotency-key": `fuzz-${++keyCounter}-key`, ...headers },
-      body,
+      body: body as BodyInit,
     }),
   );
   const text = await response.text();
