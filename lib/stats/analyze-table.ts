@@ -78,9 +78,8 @@ function marginFactors(totals: readonly number[], n: number) {
 
 // One pass over the cells with no square root, division or logarithm per cell.
 // G²/2 = Σ O ln O − Σ R ln R − Σ C ln C + n ln n: the margins-only form of
-// Σ O ln(O/E), read from a k ln k table; its rounding error is about
-// 1e-16 · n ln n absolute (1e-9 at n = 10⁶), far below any G² that matters.
-// Contributions hold the raw X² terms until rescaled.
+// Σ O ln(O/E), read from a k ln k table (see accurateGSquare for when its
+// rounding matters). Contributions hold the raw X² terms until rescaled.
 function cellPass(
   observed: readonly (readonly number[])[],
   rowTotals: readonly number[],
@@ -147,11 +146,31 @@ function cellPass(
     adjustedResiduals: adjusted,
     contributions,
     chiSquare,
-    // O = E in every cell exactly when X² = 0; the margins-only G² would leave rounding dust.
-    gSquare: chiSquare === 0 ? 0 : Math.max(0, 2 * gHalf),
+    gSquare: chiSquare === 0 ? 0 : accurateGSquare(2 * gHalf, observed, expected, n),
     cellsBelow5,
     cellsBelow1,
   };
+}
+
+// The margins-only G² loses about 4ε·n ln n to rounding. When that could exceed
+// 1e-10 of G² itself (large n, little difference), sum Σ O ln(O/E) cell by cell
+// instead: one logarithm per non-zero cell, only in that case. X² = 0 means O = E
+// everywhere, so G² is exactly 0 and the caller does not come here.
+function accurateGSquare(
+  fromMargins: number,
+  observed: readonly (readonly number[])[],
+  expected: number[][],
+  n: number,
+): number {
+  const roundingBound = 4 * Number.EPSILON * n * Math.log(n);
+  if (fromMargins > 1e10 * roundingBound) return fromMargins;
+  let half = 0;
+  for (let i = 0; i < observed.length; i++) {
+    const row = observed[i];
+    const e = expected[i];
+    for (let j = 0; j < row.length; j++) if (row[j] > 0) half += row[j] * Math.log(row[j] / e[j]);
+  }
+  return Math.max(0, 2 * half);
 }
 
 function rescale(matrix: number[][], total: number): void {
