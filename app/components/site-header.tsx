@@ -2,7 +2,7 @@ import Link from "next/link";
 import { signOut } from "@/app/signin/actions";
 import { currentUser } from "@/lib/auth/guard";
 import { ROLE_LABELS, roleAtLeast, type Role } from "@/lib/auth/roles";
-import { countOpenEpisodes } from "@/lib/db/episodes";
+import { openEpisodeCount } from "@/lib/episodes/open-count";
 
 /** Main destinations and the lowest role that may open each (badge sessions: floor entry only). */
 const NAV: { href: string; label: string; min: Role; floor?: boolean }[] = [
@@ -20,7 +20,7 @@ export async function SiteHeader() {
   const me = await currentUser();
   const items = me ? NAV.filter((item) => roleAtLeast(me.role, item.min) && (me.sessionKind === "password" || item.floor)) : [];
   const home = me && (me.role === "operator" || me.sessionKind === "badge") ? "/entry" : "/";
-  const openEpisodes = items.some((item) => item.href === "/episodes") ? await countOpenEpisodes() : null;
+  const openEpisodes = items.some((item) => item.href === "/episodes") ? await openEpisodeCount() : null;
   return (
     <header className="site-header">
       <Link href={me ? home : "/signin"} className="brand" aria-label="Linemix home">
