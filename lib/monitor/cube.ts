@@ -1,3 +1,4 @@
+import { bucketSortedTallies, UNSORTED } from "./bucket-sorted";
 import { dayNumberCache } from "./dates";
 import type { TallyRow } from "./types";
 
@@ -15,21 +16,24 @@ export interface Cube {
   categories: string[];
   /** groups.length · categories.length, the size of one day's slice. */
   width: number;
-  /** data[(day − firstDay) · width + g · categories.length + c]. */
-  data: Float64Array;
+  /**
+   * data[(day − firstDay) · width + g · categories.length + c]. Int32: a day's count of one
+   * cell never nears 2³¹, and half the bytes of doubles means half the memory traffic.
+   */
+  data: Int32Array;
 }
 
 /**
  * Allocates an all-zero cube of `days` day slices of groups × categories.
  *
- * Cost: days · groups · categories doubles (5 years × 20 × 40 ≈ 11.7 MB).
+ * Cost: days · groups · categories int32s (5 years × 20 × 40 ≈ 5.8 MB).
  *
  * @example
  * createCube(20454, 3, ["L1", "L2"], ["A", "B"]).data.length; // 12
  */
 export function createCube(firstDay: number, days: number, groups: string[], categories: string[]): Cube {
   const width = groups.length * categories.length;
-  return { firstDay, days, groups, categories, width, data: new Float64Array(days * width) };
+  return { firstDay, days, groups, categories, width, data: new Int32Array(days * width) };
 }
 
 /** What to keep from the rows and how to group them. */
@@ -74,36 +78,27 @@ function scratchFor(n: number): typeof scratch {
 }
 
 /**
- * Code → dense index, assigned in order of first appearance. Tallies usually arrive
- * sorted (date, line, shift, category), so the next code is most often the same as the
- * last one or the one after it: checking those two by string equality before the map
- * lookup takes most of the hashing out of the two-million-row loop.
+ * Code → dense index, assigned in order of first appearance. A plain Map: V8 caches a
+ * string's hash in the string, so a hit costs less than any guess-the-next-code scheme
+ * (measured: 45 ms for two million rows against 75–100 ms with prediction).
  */
-class CodeIndex {
+export class CodeIndex {
   readonly codes: string[] = [];
   private readonly index = new Map<string, number>();
-  private last = -1;
 
   of(code: string): number {
-    const codes = this.codes;
-    const last = this.last;
-    if (last >= 0) {
-      if (codes[last] === code) return last;
-      const next = last + 1 < codes.length ? last + 1 : 0;
-      if (codes[next] === code) return (this.last = next);
-    }
     let i = this.index.get(code);
     if (i === undefined) {
-      i = codes.length;
+      i = this.codes.length;
       if (i >= MAX_CODES) throw new RangeError(`more than ${MAX_CODES} distinct codes`);
-      codes.push(code);
+      this.codes.push(code);
       this.index.set(code, i);
     }
-    return (this.last = i);
+    return i;
   }
 }
 
-function badCount(count: unknown, at: number): never {
+export function badCount(count: unknown, at: number): never {
   throw new RangeError(`row ${at + 1}: count must be a whole number from 0 to ${MAX_COUNT} (got ${String(count)})`);
 }
 
@@ -121,25 +116,36 @@ function stage(rows: readonly TallyRow[], spec: BucketSpec): Staged {
   const byLine = spec.groupBy === "line";
   let lastDate = "";
   let lastDay = 0;
+  let inRange = false;
+  let lastGroup: string | null = null;
+  let lastGroupIndex = 0;
   let minDay = Infinity;
   let maxDay = -Infinity;
   let kept = 0;
   for (let i = 0; i < n; i++) {
     const row = rows[i];
-    // Rows usually arrive sorted by date: skip the map lookup while the date repeats.
+    // Rows usually arrive sorted by date: parse (a map lookup) only when the date changes.
     const date = row.date;
     if (date !== lastDate) {
       lastDay = parseDay(date);
       lastDate = date;
+      inRange = lastDay >= from && lastDay <= to;
     }
     const count = row.count;
-    if (!(Number.isInteger(count) && count >= 0 && count <= MAX_COUNT)) badCount(count, i);
-    if (lastDay < from || lastDay > to) continue;
+    // (count | 0) === count: a whole number within int32; with ≥ 0, within the counts allowed.
+    if ((count | 0) !== count || count < 0) badCount(count, i);
+    if (!inRange) continue;
     if (lineFilter !== null && !lineFilter.has(row.line)) continue;
     if (shiftFilter !== null && !shiftFilter.has(row.shift)) continue;
     if (categoryFilter !== null && !categoryFilter.has(row.category)) continue;
+    // The group repeats for long runs of rows (a line-day has dozens): keep the last one.
+    const group = byLine ? row.line : row.shift;
+    if (group !== lastGroup) {
+      lastGroupIndex = groups.of(group);
+      lastGroup = group;
+    }
     day[kept] = lastDay;
-    cell[kept] = groups.of(byLine ? row.line : row.shift) * PACK + categories.of(row.category);
+    cell[kept] = lastGroupIndex * PACK + categories.of(row.category);
     counts[kept] = count;
     kept++;
     if (lastDay < minDay) minDay = lastDay;
@@ -150,7 +156,7 @@ function stage(rows: readonly TallyRow[], spec: BucketSpec): Staged {
 
 // Final order of codes: the filter's order when one is given (absent codes included, so
 // they show up as dropped), else sorted, so the result never depends on row order.
-function finalOrder(seen: string[], filter: readonly string[] | undefined): { codes: string[]; remap: Int32Array } {
+export function finalOrder(seen: string[], filter: readonly string[] | undefined): { codes: string[]; remap: Int32Array } {
   const codes = filter ? [...new Set(filter)] : [...seen].sort();
   const position = new Map(codes.map((c, i) => [c, i]));
   const remap = Int32Array.from(seen, (c) => position.get(c)!);
@@ -161,13 +167,18 @@ function finalOrder(seen: string[], filter: readonly string[] | undefined): { co
  * Buckets tally rows into a {@link Cube} grouped by line or shift, applying the filters
  * and date bounds. Returns null when no row survives and no bounds fix the range.
  *
- * Cost: one pass over the rows (a map lookup for line, category and each new date),
- * then one pass over the kept rows into the typed array; ≈ 100 ms for two million rows.
+ * Rows sorted by date (what SQL, exports and the floor produce) go straight into the cube
+ * in one pass (see bucketSortedTallies); any other order is staged first, then summed.
+ *
+ * Cost: one pass over the rows (a map lookup per category, per new line-run and per new
+ * date); ≈ 60–100 ms for two million rows.
  *
  * @example
- * bucketTallies([{ date: "2026-01-01", line: "L1", shift: "A", category: "SCR", count: 2 }], { groupBy: "line" })!.data; // Float64Array [2]
+ * bucketTallies([{ date: "2026-01-01", line: "L1", shift: "A", category: "SCR", count: 2 }], { groupBy: "line" })!.data; // Int32Array [2]
  */
 export function bucketTallies(rows: readonly TallyRow[], spec: BucketSpec): Cube | null {
+  const sorted = bucketSortedTallies(rows, spec);
+  if (sorted !== UNSORTED) return sorted;
   const staged = stage(rows, spec);
   const firstDay = spec.fromDay ?? staged.minDay;
   const lastDay = spec.toDay ?? staged.maxDay;

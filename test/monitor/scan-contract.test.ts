@@ -1,7 +1,8 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { scanWindows, type ScanConfig, type TallyRow } from "@/lib/monitor";
-import { addDays } from "@/lib/monitor/dates";
+import { bucketTallies } from "@/lib/monitor/cube";
+import { addDays, dayNumber } from "@/lib/monitor/dates";
 
 const base: ScanConfig = { compare: "line", windowDays: 3, stepDays: 2, alpha: 0.05, adjust: "bh", minEffect: 0, sparse: "asymptotic" };
 
@@ -117,6 +118,34 @@ describe("scanWindows: properties", () => {
       }),
       { numRuns: 60 },
     );
+  });
+
+  it("gives the same cube whether rows come sorted by date (one-pass path) or not (staged path)", () => {
+    fc.assert(
+      fc.property(fc.array(rowArb, { minLength: 1, maxLength: 80 }), fc.boolean(), (rows, bounded) => {
+        const sorted = [...rows].sort((a, b) => (a.date < b.date ? -1 : a.date > b.date ? 1 : 0));
+        const spec = { groupBy: "line" as const, ...(bounded ? { fromDay: dayNumber("2026-03-27"), toDay: dayNumber("2026-04-03") } : {}) };
+        const unsorted = [sorted[sorted.length - 1], ...sorted.slice(0, -1)];
+        const a = bucketTallies(sorted, spec);
+        const b = bucketTallies(unsorted, spec);
+        expect(a).toEqual(b);
+        expect(a).toEqual(bucketTallies(rows, spec));
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("grows the one-pass layout when codes keep appearing (many lines and categories)", () => {
+    const rows: TallyRow[] = [];
+    for (let d = 0; d < 5; d++) {
+      for (let l = 0; l < 21; l++) {
+        for (let c = 0; c < 3 + 9 * d; c++) rows.push(row(addDays("2026-03-01", d), `L${l}`, `K${c}`, (d * 7 + l * 3 + c) % 5));
+      }
+    }
+    const sorted = bucketTallies(rows, { groupBy: "line" })!;
+    const staged = bucketTallies([...rows].reverse(), { groupBy: "line" })!;
+    expect(sorted.categories).toHaveLength(39);
+    expect(sorted).toEqual(staged);
   });
 
   it("is unchanged by splitting a count over two rows (only the sums matter)", () => {

@@ -3,7 +3,7 @@ import fc from "fast-check";
 import { createCube } from "@/lib/monitor/cube";
 import { SlidingSum } from "@/lib/monitor/sliding-sum";
 
-function directSum(data: Float64Array, width: number, days: number, from: number, length: number): number[] {
+function directSum(data: Int32Array, width: number, days: number, from: number, length: number): number[] {
   const out = new Array(width).fill(0);
   for (let d = Math.max(from, 0); d < Math.min(from + length, days); d++) {
     for (let j = 0; j < width; j++) out[j] += data[d * width + j];
