@@ -113,8 +113,8 @@ test("an engineer reviews the planted episode, notes it and exports it for the m
 test("the list filters and exports what it shows", async ({ page }) => {
   await signIn(page, "engineer");
   await page.goto("/episodes");
-  await page.getByLabel("Line").selectOption("P3");
-  await page.getByLabel("Category").selectOption("seal-leak");
+  await page.getByLabel("Line", { exact: true }).selectOption("P3");
+  await page.getByLabel("Category", { exact: true }).selectOption("seal-leak");
   await page.getByRole("button", { name: "Show" }).click();
   await expect(page).toHaveURL(/line=P3/);
   await expect(page.locator("tr[data-episode]").first()).toBeVisible();
