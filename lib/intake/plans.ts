@@ -143,7 +143,7 @@ export function minimalCorrection(entries: { id: number; value: number }[], targ
   return chosen.map((e, i) => ({ id: e.id, from: e.value, to: i === chosen.length - 1 ? target - untouched : 0 }));
 }
 
-/** Operators: own entries of a shift inside its correction window. Engineers and admins: any. */
+/** Operators: own entries of a shift inside its correction window. Engineers and admins: any. Tokens: none. */
 export function correctionPermission(
   actor: Actor,
   entry: { enteredById: number | null; enteredByName: string },
@@ -151,6 +151,7 @@ export function correctionPermission(
   date: string,
   now: Date,
 ): string | null {
+  if (actor.role === "system") return "API tokens cannot correct entries; a person corrects them in Linemix, with a reason.";
   if (actorAtLeast(actor, "engineer")) return null;
   if (entry.enteredById === null || entry.enteredById !== actor.userId) {
     return `This count was recorded by ${entry.enteredByName}; only they (during the shift) or an engineer can correct it.`;

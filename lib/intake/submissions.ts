@@ -167,11 +167,9 @@ export function submitOnce(input: {
     const plan = input.build(sqlite);
     if ("status" in plan) throw new Refused(plan);
     const rows = plan.tallies.length + plan.units.length;
-    const submissionId = Number(
-      sqlite
-        .prepare("INSERT INTO Submission (idempotencyKey, contentHash, source, rows, userId, createdAt) VALUES (?, ?, ?, ?, ?, ?)")
-        .run(input.key, hash, input.kind, rows, input.actor.userId, stamp).lastInsertRowid,
-    );
+    sqlite
+      .prepare("INSERT INTO Submission (idempotencyKey, contentHash, source, rows, userId, createdAt) VALUES (?, ?, ?, ?, ?, ?)")
+      .run(input.key, hash, input.kind, rows, input.actor.userId, stamp);
     const [prefix] = keyRange(input.key);
     const insertTally = sqlite.prepare(
       `INSERT INTO TallyEntry (productionDate, shiftId, lineId, categoryId, productId, count, source, note, enteredById, enteredByName, createdAt, idempotencyKey, supersedesId, correctionReason)
@@ -228,9 +226,8 @@ export function submitOnce(input: {
         );
       }
     }
-    const row = findSubmission(sqlite, input.key)!;
-    void submissionId;
-    return { status: "created", result: resultFor(sqlite, row) };
+    // The answer is rebuilt from what was stored, exactly as a replay will rebuild it.
+    return { status: "created", result: resultFor(sqlite, findSubmission(sqlite, input.key)!) };
   });
   try {
     return run.immediate();

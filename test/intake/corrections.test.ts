@@ -222,6 +222,12 @@ describe("operator correction window: own entries, from shift start until 30 min
     expect(correct(op, id3, at("2026-03-03", "06:30")).status).toBe("forbidden");
   });
 
+  it("refuses API tokens (they add counts; people correct them)", async () => {
+    const id = await entryOf(plant.users.operator, sheetA, at("2026-03-02", "08:00"));
+    const outcome = correct({ userId: null, name: 'API token "gateway"', role: "system" }, id, at("2026-03-02", "09:00"));
+    expect(outcome.status).toBe("forbidden");
+  });
+
   it("refuses another operator's entry even inside the window", async () => {
     const id = await entryOf(plant.users.operator, sheetA, at("2026-03-02", "08:00"));
     const outcome = correct(plant.users.operator2, id, at("2026-03-02", "09:00"));
