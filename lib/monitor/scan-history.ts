@@ -9,7 +9,8 @@ import type { HistoryConfig, ScanResult, TallyRow } from "./types";
  * One line against its own recent past: each window ("current") is tested against the
  * `historyWeeks · 7` days just before it ("baseline") as a 2 × categories table — a
  * chi-square test of homogeneity over time. The first window starts once a full
- * baseline exists (first date + historyWeeks · 7 days). Same per-window methods,
+ * baseline exists (first date + historyWeeks · 7 days), or on `from` when given (its
+ * baseline then uses the data before `from`). Same per-window methods,
  * adjustment, flags, drivers (rows "current" / "baseline") and episodes as
  * {@link scanWindows}; consecutive windows share most of their baseline, a positive
  * dependence under which BH stays valid (Benjamini & Yekutieli 2001).
@@ -39,16 +40,17 @@ export function scanHistory(rows: readonly TallyRow[], config: HistoryConfig): S
  */
 export function prepareHistoryScan(rows: readonly TallyRow[], config: HistoryConfig): PreparedScan | null {
   const c = resolveHistoryConfig(config);
+  const baselineDays = c.historyWeeks * 7;
   const cube = bucketTallies(rows, {
     groupBy: "line",
     lines: [c.line],
     shifts: c.shifts,
     categories: c.categories,
-    fromDay: c.from === undefined ? undefined : dayNumber(c.from),
+    // With `from`, the first window starts on it and its baseline reaches back before it.
+    fromDay: c.from === undefined ? undefined : dayNumber(c.from) - baselineDays,
     toDay: c.to === undefined ? undefined : dayNumber(c.to),
   });
   if (!cube) return null;
-  const baselineDays = c.historyWeeks * 7;
   return prepareScan({
     kind: "history",
     cube,

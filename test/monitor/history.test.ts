@@ -52,6 +52,16 @@ describe("scanHistory: a line against its own recent past", () => {
     expect(rate.windows.filter((w) => w.flagged)).toEqual([]);
   });
 
+  it("with from, starts on it and takes the baseline from the days before it", () => {
+    const { tallies } = simulatePlant(spec, 5);
+    const from = addDays(spec.start, 40);
+    const bounded = scanHistory(tallies, { ...config, from });
+    expect(bounded.windows[0].start).toBe(from);
+    const full = scanHistory(tallies, config);
+    const same = full.windows.find((w) => w.start === from)!;
+    expect(bounded.windows[0]).toMatchObject({ n: same.n, chiSquare: same.chiSquare, pValue: same.pValue });
+  });
+
   it("ignores other lines", () => {
     const { tallies } = simulatePlant(spec, 8);
     const onlyL2 = tallies.filter((r) => r.line === "L2");
