@@ -21,7 +21,13 @@ type Search = Promise<Record<string, string | string[] | undefined>>;
 
 function driverText(e: EpisodeRecord, names: Names): string[] {
   const kind = e.comparison.compare === "shift" ? "shift" : e.comparison.compare === "history" ? "history" : "line";
-  return e.drivers.slice(0, 3).map((d) => `${names.row(kind, d.row)} · ${names.category(d.category)} (${formatSigned(d.adjustedResidual)})`);
+  // Against its own past the baseline row mirrors the current one: show the current window's cells.
+  const cells = kind === "history" ? e.drivers.filter((d) => d.row !== "baseline") : e.drivers;
+  return cells.slice(0, 3).map((d) => `${names.row(kind, d.row)} · ${names.category(d.category)} (${formatSigned(d.adjustedResidual)})`);
+}
+
+function shownDrivers(e: EpisodeRecord): number {
+  return e.comparison.compare === "history" ? e.drivers.filter((d) => d.row !== "baseline").length : e.drivers.length;
 }
 
 export default async function EpisodesPage({ searchParams }: { searchParams: Search }) {
@@ -180,7 +186,7 @@ export default async function EpisodesPage({ searchParams }: { searchParams: Sea
                     {driverText(e, names).map((t) => (
                       <div key={t}>{t}</div>
                     ))}
-                    {e.drivers.length > 3 && <div className="muted small">and {e.drivers.length - 3} more</div>}
+                    {shownDrivers(e) > 3 && <div className="muted small">and {shownDrivers(e) - 3} more</div>}
                   </td>
                   <td className="num">{formatP(e.minAdjustedP)}</td>
                   <td>

@@ -47,6 +47,14 @@ test("an engineer reviews the planted episode, notes it and exports it for the m
   await page.getByRole("button", { name: "Change status" }).click();
   await expect(page.getByText(/Status changed to “Under investigation”/)).toBeVisible();
   await expect(page.getByTestId("episode-owner")).toHaveText(DEMO_USERS.engineer.displayName);
+  await expect(page.locator("#episode-owner option:checked")).toHaveText(DEMO_USERS.engineer.displayName);
+
+  // The plant's own containment / corrective-action numbers.
+  await page.getByLabel("Containment / corrective-action references").fill("CA-2026-041, QN-5521");
+  await page.getByRole("button", { name: "Save references" }).click();
+  await expect(page.getByText("Action references saved.")).toBeVisible();
+  await expect(page.getByTestId("episode-refs")).toHaveText("CA-2026-041, QN-5521");
+  await expect(page.getByLabel("Containment / corrective-action references")).toHaveValue("CA-2026-041, QN-5521");
 
   // Closing needs a reason.
   await page.getByLabel("New status").selectOption("explained");
@@ -100,6 +108,7 @@ test("an engineer reviews the planted episode, notes it and exports it for the m
   expect(text).toContain("Status: Explained");
   expect(text).toContain("Press line 3");
   expect(text).toContain(note);
+  expect(text).toContain("CA-2026-041, QN-5521");
   expect(text).toContain("not proof of a cause");
 
   // Every export is in the history.

@@ -62,15 +62,23 @@ export function StatusForm({ id, options }: { id: number; options: Option[] }) {
   );
 }
 
+/** A form field that follows its saved value when the page re-renders with a new one. */
+function useSaved(saved: string): [string, (v: string) => void] {
+  const [value, setValue] = useState(saved);
+  useEffect(() => setValue(saved), [saved]);
+  return [value, setValue];
+}
+
 export function OwnerForm({ id, ownerId, owners }: { id: number; ownerId: number | null; owners: { id: number; name: string }[] }) {
   const [state, action, pending] = useActionState(setOwnerAction, null);
+  const [value, setValue] = useSaved(ownerId === null ? "" : String(ownerId));
   return (
     <form action={action} className="episode-form">
       <input type="hidden" name="id" value={id} />
       <div className="form-row">
         <div className="field">
           <label htmlFor="episode-owner">Owner</label>
-          <select id="episode-owner" name="ownerId" defaultValue={ownerId ?? ""}>
+          <select id="episode-owner" name="ownerId" value={value} onChange={(e) => setValue(e.target.value)}>
             <option value="">Nobody yet</option>
             {owners.map((o) => (
               <option key={o.id} value={o.id}>
@@ -92,13 +100,14 @@ export function OwnerForm({ id, ownerId, owners }: { id: number; ownerId: number
 
 export function ActionRefsForm({ id, actionRefs }: { id: number; actionRefs: string | null }) {
   const [state, action, pending] = useActionState(setActionRefsAction, null);
+  const [value, setValue] = useSaved(actionRefs ?? "");
   return (
     <form action={action} className="episode-form">
       <input type="hidden" name="id" value={id} />
       <div className="form-row">
         <div className="field episode-refs">
           <label htmlFor="episode-refs">Containment / corrective-action references</label>
-          <input id="episode-refs" name="actionRefs" defaultValue={actionRefs ?? ""} maxLength={500} placeholder="e.g. the plant's containment and CAPA numbers" />
+          <input id="episode-refs" name="actionRefs" value={value} onChange={(e) => setValue(e.target.value)} maxLength={500} placeholder="e.g. the plant's containment and CAPA numbers" />
         </div>
         <div className="field">
           <button type="submit" className="secondary" disabled={pending}>
