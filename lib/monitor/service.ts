@@ -8,6 +8,10 @@ import { changesSince, connectionStamp, entryCounts, maxIds, sameStamp, type Con
 import type { ScanWindow } from "./types";
 import { windowDetailOf, type WindowDetail } from "./window-detail";
 
+export type { SavedComparison } from "./service-settings";
+export type { ScanOutput } from "./service-build";
+export type { WindowDetail } from "./window-detail";
+
 /** Names for the codes a comparison's results use. */
 export interface ComparisonLabels {
   /** Row code → label: line or shift names, or "Current window" / "Baseline" for history. */
