@@ -5,7 +5,7 @@
 import type { Writable } from "node:stream";
 import { closeDb, rawDb } from "../db/client";
 import { iterateUnitTotals } from "../db/inspections";
-import { applyMigrationsIfPending } from "../intake/migrations";
+import { applyPendingMigrations } from "../db/migrate";
 import { iterateCellTotals } from "../db/tallies";
 import { writeCsv } from "../csv/write-csv";
 import { isIsoDate } from "../dates";
@@ -99,7 +99,7 @@ async function main(): Promise<number> {
     }
     throw error;
   }
-  await applyMigrationsIfPending();
+  await applyPendingMigrations();
   if (parsed.args.lines.length) {
     const known = new Set((rawDb().prepare("SELECT code FROM Line").all() as { code: string }[]).map((r) => r.code));
     const unknown = parsed.args.lines.filter((l) => !known.has(l));

@@ -6,7 +6,7 @@ import { createReadStream, statSync } from "node:fs";
 import path from "node:path";
 import { closeDb, rawDb } from "../db/client";
 import { databaseTrouble } from "../db/errors";
-import { applyMigrationsIfPending } from "../intake/migrations";
+import { applyPendingMigrations } from "../db/migrate";
 import { cliActor } from "../intake/actor";
 import { formatProblem } from "../intake/csv-read";
 import { importCsv, type ImportOutcome } from "../intake/import";
@@ -54,7 +54,7 @@ async function main(): Promise<number> {
     fail(`${file}: no such file`);
   }
 
-  await applyMigrationsIfPending();
+  await applyPendingMigrations();
   const outcome = await importCsv(createReadStream(file), {
     actor: cliActor(),
     fileName: path.basename(file),

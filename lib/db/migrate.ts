@@ -1,17 +1,54 @@
 import { mkdir, mkdtemp, readFile, rm, writeFile } from "node:fs/promises";
+import { existsSync, readdirSync } from "node:fs";
 import { tmpdir } from "node:os";
+import Database from "better-sqlite3";
 import path from "node:path";
 import { databaseFile, databaseUrl } from "./url";
 import { EMPTY_FILTER, MIGRATIONS_DIR, PRISMA_DIR, SCHEMA_PATH, loadMigrationList, openSchemaEngine } from "./schema-engine";
 
-/** Applies every pending migration in prisma/migrations; returns the names applied. */
+/**
+ * Names of the migration folders not yet recorded as applied in _prisma_migrations.
+ * Read with a plain connection: it is cheap and, unlike the schema engine, works while
+ * another process (the running app) holds the database open.
+ */
+export function pendingMigrationNames(url = databaseUrl(), dir = MIGRATIONS_DIR): string[] {
+  const folders = existsSync(dir)
+    ? readdirSync(dir, { withFileTypes: true })
+        .filter((d) => d.isDirectory() && existsSync(path.join(dir, d.name, "migration.sql")))
+        .map((d) => d.name)
+        .sort()
+    : [];
+  if (!existsSync(databaseFile(url))) return folders;
+  const sqlite = new Database(databaseFile(url), { readonly: true, fileMustExist: true });
+  try {
+    const table = sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name = '_prisma_migrations'").get();
+    if (!table) return folders;
+    const rows = sqlite
+      .prepare("SELECT migration_name FROM _prisma_migrations WHERE finished_at IS NOT NULL AND rolled_back_at IS NULL")
+      .all() as { migration_name: string }[];
+    const applied = new Set(rows.map((r) => r.migration_name));
+    return folders.filter((f) => !applied.has(f));
+  } finally {
+    sqlite.close();
+  }
+}
+
+/**
+ * Applies every pending migration in prisma/migrations; returns the names applied.
+ * The schema engine starts only when something is pending: it cannot work while another
+ * process holds the database open, and the command-line tools usually run beside the app.
+ */
 export async function applyPendingMigrations(url = databaseUrl()): Promise<string[]> {
+  if (pendingMigrationNames(url).length === 0) return [];
   await mkdir(path.dirname(databaseFile(url)), { recursive: true });
   const { engine, close } = await openSchemaEngine(url);
   try {
     const migrationsList = await loadMigrationList();
     const result = await engine.applyMigrations({ migrationsList, filters: EMPTY_FILTER });
     return result.appliedMigrationNames;
+  } catch (error) {
+    const first = error instanceof Error ? error.message.split("\n")[0].slice(0, 160) : String(error);
+    throw new Error(`pending database migrations could not be applied (${first}); stop the app and run npm run db:migrate`);
   } finally {
     await close();
   }
