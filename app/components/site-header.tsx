@@ -10,6 +10,7 @@ const NAV: { href: string; label: string; min: Role; floor?: boolean }[] = [
   { href: "/week", label: "Weekly review", min: "engineer" },
   { href: "/episodes", label: "Flagged periods", min: "engineer" },
   { href: "/entry", label: "Floor entry", min: "operator", floor: true },
+  { href: "/entry/corrections", label: "Corrections", min: "operator", floor: true },
   { href: "/import", label: "Import", min: "engineer" },
   { href: "/setup", label: "Setup", min: "admin" },
   { href: "/admin/users", label: "Users & tokens", min: "admin" },
