@@ -88,7 +88,7 @@ export interface Driver {
   ratio: number;
   /** Haberman's adjusted residual; positive = more than expected. */
   adjustedResidual: number;
-  /** The cell's share of X², (O − E)² / E. */
+  /** The cell's share of X²: ((O − E)² / E) / X² (the shares of a table sum to 1). */
   contribution: number;
 }
 
@@ -112,9 +112,10 @@ export interface ScanWindow {
   df: number | null;
   pValue: number | null;
   method: TestMethod | null;
-  /** Monte Carlo details when method is "monte-carlo". */
+  /** Monte Carlo details when method is "monte-carlo" (seed = FNV-1a of "compare|start|end"). */
   monteCarlo: { replicates: number; seed: number; standardError: number } | null;
   pooled: PooledColumns | null;
+  /** Of the window's own table (before any pooling); null when not testable. */
   expectedCounts: ExpectedSummary | null;
   /** Across all testable windows of the scan, per `adjust`. */
   adjustedPValue: number | null;
