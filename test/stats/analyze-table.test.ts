@@ -182,6 +182,7 @@ describe("bad input is rejected with a RangeError and a plain message", () => {
     ["an all-zero row", [[1, 2], [0, 0], [3, 4]], /row 2 is all zeros/],
     ["an all-zero column", [[1, 0, 2], [3, 0, 4]], /column 2 is all zeros/],
     ["a non-number", [[1, "2"], [3, 4]], /row 1, column 2 is not a number/],
+    ["a BigInt (a raw SQL SUM)", [[1, 2], [BigInt(3), 4]], /row 2, column 1 is not a number/],
   ];
   for (const [label, table, message] of cases) {
     it(label, () => {
