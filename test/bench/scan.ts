@@ -47,16 +47,22 @@ function median(xs: number[]): number {
  * Medians of several functions timed in interleaved rounds (A B C, A B C, …), so a burst
  * of load on a shared machine hits all of them alike; one warm-up round first.
  */
-function timeInterleaved(rounds: number, fs: Record<string, () => unknown>): Record<string, number> {
-  const times: Record<string, number[]> = {};
+function timeInterleaved(rounds: number, fs: Record<string, () => unknown>): Record<string, { wall: number; cpu: number }> {
+  const wall: Record<string, number[]> = {};
+  const cpu: Record<string, number[]> = {};
   for (let r = -1; r < rounds; r++) {
     for (const [name, f] of Object.entries(fs)) {
+      const c0 = process.cpuUsage();
       const t = performance.now();
       f();
-      if (r >= 0) (times[name] ??= []).push(performance.now() - t);
+      const dt = performance.now() - t;
+      const c = process.cpuUsage(c0);
+      if (r < 0) continue;
+      (wall[name] ??= []).push(dt);
+      (cpu[name] ??= []).push((c.user + c.system) / 1000);
     }
   }
-  return Object.fromEntries(Object.entries(times).map(([k, v]) => [k, median(v)]));
+  return Object.fromEntries(Object.keys(wall).map((k) => [k, { wall: median(wall[k]), cpu: median(cpu[k]) }]));
 }
 
 function plant() {
@@ -132,7 +138,7 @@ function minimalWindows({ cube, days, G, C }: { cube: Int32Array; days: number; 
   return p;
 }
 
-function rBench(rows: readonly TallyRow[], dir: string): { seconds: number; windows: number } | null {
+function rBench(rows: readonly TallyRow[], dir: string): { seconds: number; cpuSeconds: number; windows: number } | null {
   const rscript = "/usr/bin/Rscript";
   if (!existsSync(rscript)) return null;
   const cube = bucketTallies(rows, { groupBy: "line" })!;
@@ -156,10 +162,10 @@ function rBench(rows: readonly TallyRow[], dir: string): { seconds: number; wind
       p
     }
     invisible(run())
-    e <- sapply(1:7, function(i) system.time(run())[["elapsed"]])
-    cat(median(e), length(starts), "\\n")`;
+    e <- sapply(1:7, function(i) { s <- system.time(run()); c(s[["elapsed"]], s[["user.self"]] + s[["sys.self"]]) })
+    cat(median(e[1, ]), median(e[2, ]), length(starts), "\\n")`;
   const out = execFileSync(rscript, ["-e", script], { encoding: "utf8" }).trim().split(/\s+/);
-  return { seconds: Number(out[0]), windows: Number(out[1]) };
+  return { seconds: Number(out[0]), cpuSeconds: Number(out[1]), windows: Number(out[2]) };
 }
 
 async function buildDatabase(dir: string, data: ReturnType<typeof plant>): Promise<string> {
@@ -232,22 +238,27 @@ async function main(): Promise<void> {
       windowsOnly: () => finishScan(prepareScan({ kind: "groups", cube, starts, windowDays: 7, baselineDays: 0, test, finalize: CONFIG })),
       minimalWindows: () => minimalWindows(minimalCube),
     });
-    const scanMs = m.scan;
-    const minimalMs = m.minimal;
-    const bucketMs = m.bucket;
-    const windowsOnlyMs = m.windowsOnly;
-    const minimalWindowsMs = m.minimalWindows;
+    const scanMs = m.scan.wall;
+    const minimalMs = m.minimal.wall;
+    const bucketMs = m.bucket.wall;
+    const windowsOnlyMs = m.windowsOnly.wall;
+    const minimalWindowsMs = m.minimalWindows.wall;
     const r = rBench(data.tallies, dir);
     console.log(`\n${"measure (median)".padEnd(44)} ${"value".padStart(12)}   target`);
     line("scanWindows in-process (2M rows → result)", `${scanMs.toFixed(0)} ms`, "≤ 600 ms", scanMs <= 600);
+    line("  CPU time (user + system)", `${m.scan.cpu.toFixed(0)} ms`);
     line("minimal loop (bucket, slide, X², p)", `${minimalMs.toFixed(0)} ms`);
     line("  scan / minimal loop", `${(scanMs / minimalMs).toFixed(2)}×`, "≤ 3×", scanMs / minimalMs <= 3);
     line("  of which: bucketing 2M rows (scan)", `${bucketMs.toFixed(0)} ms`);
     line("  windows only, from the cube (scan)", `${windowsOnlyMs.toFixed(0)} ms`);
     line("  windows only, from the cube (minimal)", `${minimalWindowsMs.toFixed(0)} ms`);
     if (r) {
+      // On a shared machine wall time swings with the neighbours' load between the two
+      // measurements; CPU time does not, so the target is judged on CPU time.
       line(`R chisq.test loop (${r.windows} windows)`, `${(r.seconds * 1000).toFixed(0)} ms`);
-      line("  R / scan", `${((r.seconds * 1000) / scanMs).toFixed(2)}×`, "≥ 2×", (r.seconds * 1000) / scanMs >= 2);
+      line("  CPU time (user + system)", `${(r.cpuSeconds * 1000).toFixed(0)} ms`);
+      line("  R / scan, wall time", `${((r.seconds * 1000) / scanMs).toFixed(2)}×`);
+      line("  R / scan, CPU time", `${((r.cpuSeconds * 1000) / m.scan.cpu).toFixed(2)}×`, "≥ 2×", (r.cpuSeconds * 1000) / m.scan.cpu >= 2);
     } else line("R chisq.test loop", "skipped (no /usr/bin/Rscript)");
     t = performance.now();
     const url = await buildDatabase(dir, data);
