@@ -23,7 +23,7 @@ beforeAll(async () => {
   ctx = await useTempDatabase();
   forgetKeptResults();
   const db = rawDb();
-  ids = insertMasterData(db, { lines, shifts, categories, families });
+  ids = insertMasterData(db, { lines: [...lines, "L06"], shifts, categories, families });
   const { tallies, units } = simulatePlant(
     {
       start: "2026-01-05",
@@ -183,6 +183,26 @@ describe("late and corrected data", () => {
     expect(after.rates).toEqual(scanRates(currentRows(), currentUnits(), linesConfig));
   });
 
+  it("entries for a line the scan has not seen yet rebuild it (new group), and match a fresh scan", async () => {
+    const before = (await runComparison("lines"))!;
+    expect(before.windows[0].groups).not.toContain("L06");
+    insertTallies(rawDb(), ids, [{ date: "2026-02-03", line: "L06", shift: "A", category: "C01", count: 4 }]);
+    const after = (await runComparison("lines"))!;
+    expect(after.computed.how).toBe("built");
+    expect(after.windows.find((w) => w.start === "2026-02-01")!.groups).toContain("L06");
+    expect(after.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
+  });
+
+  it("an entry deleted in place (outside the correction scheme) is caught with the next entry and rebuilds", async () => {
+    await runComparison("lines");
+    const victim = rawDb().prepare("SELECT id FROM TallyEntry WHERE productionDate = '2026-01-12' ORDER BY id LIMIT 1").pluck().get() as number;
+    rawDb().prepare("DELETE FROM TallyEntry WHERE id = ? AND NOT EXISTS (SELECT 1 FROM TallyEntry x WHERE x.supersedesId = ?)").run(victim, victim);
+    insertTallies(rawDb(), ids, [{ date: "2026-01-13", line: "L01", shift: "A", category: "C02", count: 1 }]);
+    const after = (await runComparison("lines"))!;
+    expect(after.computed.how).toBe("built");
+    expect(after.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
+  });
+
   it("a change of the comparison's settings rebuilds", async () => {
     rawDb().prepare("UPDATE Comparison SET windowDays = 14, updatedAt = CURRENT_TIMESTAMP WHERE code = 'lines'").run();
     const run = (await runComparison("lines"))!;
@@ -205,7 +225,21 @@ describe("windowDetail", () => {
     expect(detail.analysis!.cramersVCorrected).toBeCloseTo(peak.cramersVCorrected!, 12);
     expect(detail.drivers).toEqual(peak.drivers);
     expect(detail.rates!.start).toBe(peak.start);
-    expect(detail.rates!.groups.every((g) => g.units > 0 && g.defectsPerUnit! > 0)).toBe(true);
+    const inspected = detail.rates!.groups.filter((g) => g.units > 0);
+    expect(inspected.map((g) => g.group)).toEqual(lines);
+    expect(inspected.every((g) => g.defectsPerUnit! > 0 && g.lower !== null && g.upper! > g.lower!)).toBe(true);
+    // L06 (one tally, no inspected units) is left out of the rate test and says so.
+    expect(detail.rates!.droppedGroups).toEqual(["L06"]);
     expect(await windowDetail("lines", "1999-01-01")).toBeNull();
+  });
+
+  it("gives a history window's current-versus-baseline table", async () => {
+    const run = (await runComparison("l3-history"))!;
+    const w = run.windows[10];
+    const detail = (await windowDetail("l3-history", w.start))!;
+    expect(detail.rows).toEqual(["current", "baseline"]);
+    expect(detail.observed.flat().reduce((a, b) => a + b, 0)).toBe(w.n);
+    expect(detail.rates!.groups.map((g) => g.group)).toEqual(["current", "baseline"]);
+    expect(detail.labels.rows.baseline).toMatch(/3 weeks/);
   });
 });
