@@ -2,7 +2,12 @@ import { CodeIndex, badCount, createCube, finalOrder, type BucketSpec, type Cube
 import { dayNumberCache } from "./dates";
 import type { TallyRow } from "./types";
 
-/** Returned when the rows turn out not to be sorted by date. */
+/**
+ * Returned when the rows turn out not to be sorted by date.
+ *
+ * @example
+ * bucketSortedTallies([], { groupBy: "line" }) === UNSORTED; // true
+ */
 export const UNSORTED = Symbol("unsorted");
 
 // Provisional cubes larger than this (cells) are left to the staged path.

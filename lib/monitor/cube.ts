@@ -81,6 +81,9 @@ function scratchFor(n: number): typeof scratch {
  * Code → dense index, assigned in order of first appearance. A plain Map: V8 caches a
  * string's hash in the string, so a hit costs less than any guess-the-next-code scheme
  * (measured: 45 ms for two million rows against 75–100 ms with prediction).
+ *
+ * @example
+ * const ix = new CodeIndex(); [ix.of("L2"), ix.of("L1"), ix.of("L2")]; // [0, 1, 0]
  */
 export class CodeIndex {
   readonly codes: string[] = [];
@@ -98,6 +101,12 @@ export class CodeIndex {
   }
 }
 
+/**
+ * Throws the RangeError for a bad count on row `at` (0-based).
+ *
+ * @example
+ * badCount(-1, 0); // throws "row 1: count must be a whole number from 0 to 2147483647 (got -1)"
+ */
 export function badCount(count: unknown, at: number): never {
   throw new RangeError(`row ${at + 1}: count must be a whole number from 0 to ${MAX_COUNT} (got ${String(count)})`);
 }
@@ -154,8 +163,14 @@ function stage(rows: readonly TallyRow[], spec: BucketSpec): Staged {
   return { kept, day, cell, count: counts, groupCodes: groups.codes, categoryCodes: categories.codes, minDay, maxDay };
 }
 
-// Final order of codes: the filter's order when one is given (absent codes included, so
-// they show up as dropped), else sorted, so the result never depends on row order.
+/**
+ * Final order of codes: the filter's order when one is given (absent codes included, so
+ * they show up as dropped), else sorted, so the result never depends on row order; with
+ * `remap[i]` the final position of the i-th code seen. O(k log k).
+ *
+ * @example
+ * finalOrder(["L2", "L1"], undefined); // { codes: ["L1", "L2"], remap: Int32Array [1, 0] }
+ */
 export function finalOrder(seen: string[], filter: readonly string[] | undefined): { codes: string[]; remap: Int32Array } {
   const codes = filter ? [...new Set(filter)] : [...seen].sort();
   const position = new Map(codes.map((c, i) => [c, i]));

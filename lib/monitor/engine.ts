@@ -24,7 +24,12 @@ export interface PreparedScan {
   states: WindowState[];
 }
 
-/** Row labels of a history scan's tables. */
+/**
+ * Row labels of a history scan's tables.
+ *
+ * @example
+ * HISTORY_ROWS; // ["current", "baseline"]
+ */
 export const HISTORY_ROWS = ["current", "baseline"];
 
 /**

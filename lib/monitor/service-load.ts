@@ -22,7 +22,12 @@ import { readPackedInts } from "./packed-ints";
  * count below 2²⁵ so the packed value is exact in a double (checked).
  */
 
-/** Ids (shift, category) must be below this to pack; checked by {@link checkPackable}. */
+/**
+ * Ids (shift, category) must be below this to pack; checked by {@link checkPackable}.
+ *
+ * @example
+ * (5 * ID_SPAN + 3) % ID_SPAN; // 3: category id 3 with count 5
+ */
 export const ID_SPAN = 16_384;
 
 /**
