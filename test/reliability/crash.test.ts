@@ -1,6 +1,6 @@
 import { build } from "esbuild";
 import { spawn } from "node:child_process";
-import { writeFileSync } from "node:fs";
+import { rmSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { closeDb } from "@/lib/db/client";
@@ -30,7 +30,9 @@ import { REPO, checkFile, killHard, postUntil, seeded, startProcess, walBytes } 
 const RUNS = Number(process.env.LINEMIX_CRASH_RUNS ?? 20);
 const SEED = Number(process.env.LINEMIX_CRASH_SEED ?? 20261201);
 const IMPORT_ROWS = 10_000;
-const OUT = path.join(REPO, "node_modules", ".cache", "linemix-reliability");
+// Per process: several people's test runs share this working tree. Inside node_modules so
+// the bundles' bare imports (better-sqlite3, @prisma/*) resolve.
+const OUT = path.join(REPO, "node_modules", ".cache", "linemix-reliability", String(process.pid));
 
 let ctx: Awaited<ReturnType<typeof useTempDatabase>>;
 let plant: Plant;
@@ -57,7 +59,10 @@ beforeAll(async () => {
     logLevel: "warning",
   });
 });
-afterAll(async () => ctx.cleanup());
+afterAll(async () => {
+  rmSync(OUT, { recursive: true, force: true });
+  await ctx.cleanup();
+});
 
 describe("kill -9 of the server taking floor submissions", () => {
   it(`loses no acknowledged batch and leaves no partial one over ${RUNS} kills at random moments`, async () => {

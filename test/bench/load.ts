@@ -1,0 +1,355 @@
+// npm run bench:load — the built app under 50 concurrent clients for 60 s on a plant of
+// 2 years × 12 lines × 25 categories × 3 shifts (test/bench/plant.ts), over loopback:
+// floor submissions (POST /api/v1/tallies, one floor sheet of 25 categories per batch,
+// a unique idempotency key each, API token) mixed with the overview (/) and a window
+// page (/comparisons/lines/windows/<start>) read by signed-in engineers. Afterwards the
+// SQLite file is counted against the 2xx answers: every acknowledged batch stored exactly
+// once. Then 200 concurrent POSTs of one batch under one key: stored once.
+// Not a timed test: it prints a table beside the targets (p99 ≤ 500 ms, no errors).
+//
+// Needs the production build in .next-load: LINEMIX_DIST_DIR=.next-load npx next build
+// Options (environment): BENCH_CONNECTIONS (50), BENCH_SECONDS (60), BENCH_RATE (requests
+// per second per client, default 2 — a floor terminal or an engineer's browser does far
+// less; 0 = as fast as the server answers, a saturation run), BENCH_PHASES (comma list of
+// reads, posts, mixed; default mixed), BENCH_PORT (3351).
+import Database from "better-sqlite3";
+import { spawn, type ChildProcess } from "node:child_process";
+import { existsSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { request as httpRequest } from "node:http";
+import { createRequire } from "node:module";
+import { cpus, freemem, loadavg, tmpdir, totalmem } from "node:os";
+import path from "node:path";
+
+const DIST = process.env.LINEMIX_DIST_DIR ?? ".next-load";
+const PORT = Number(process.env.BENCH_PORT ?? 3351);
+const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 50);
+const SECONDS = Number(process.env.BENCH_SECONDS ?? 60);
+const RATE = Number(process.env.BENCH_RATE ?? 2);
+const SAME_KEY_POSTS = 200;
+const P99_TARGET_MS = 500;
+
+if (!existsSync(path.join(DIST, "BUILD_ID"))) {
+  console.error(`No build in ${DIST}: run LINEMIX_DIST_DIR=${DIST} npx next build first.`);
+  process.exit(1);
+}
+
+const dir = mkdtempSync(path.join(tmpdir(), "linemix-bench-load-"));
+const file = path.join(dir, "load.db");
+const url = `file:${file}`;
+process.env.DATABASE_URL = url;
+
+const { applyPendingMigrations } = await import("../../lib/db/migrate");
+const { openSqlite, closeDb } = await import("../../lib/db/client");
+const { addDays, localToday } = await import("../../lib/dates");
+const { seedDemoAccounts } = await import("../../lib/auth/demo-accounts");
+const { createSession } = await import("../../lib/auth/sessions");
+const { createApiToken } = await import("../../lib/auth/api-tokens");
+const { SESSION_COOKIE } = await import("../../lib/auth/constants");
+const { buildPlant, PLANT } = await import("./plant");
+
+type Histogram = { average: number; p50: number; p90: number; p99: number; max: number };
+type CannonResult = {
+  requests: { total: number; average: number };
+  latency: Histogram;
+  errors: number;
+  timeouts: number;
+  non2xx: number;
+  "2xx": number;
+  duration: number;
+  statusCodeStats: Record<string, { count: number }>;
+};
+type CannonRequest = {
+  method?: string;
+  path?: string;
+  headers?: Record<string, string>;
+  body?: string;
+  setupRequest?: (request: CannonRequest, context: Record<string, unknown>) => CannonRequest;
+  onResponse?: (status: number, body: string, context: Record<string, unknown>) => void;
+};
+type CannonOptions = {
+  url: string;
+  connections: number;
+  duration: number;
+  connectionRate?: number;
+  timeout?: number;
+  headers?: Record<string, string>;
+  requests: CannonRequest[];
+};
+const autocannon = createRequire(import.meta.url)("autocannon") as (options: CannonOptions) => Promise<CannonResult>;
+
+async function waitForHealth(base: string, server: ChildProcess): Promise<void> {
+  const until = Date.now() + 180_000;
+  while (Date.now() < until) {
+    if (server.exitCode !== null) throw new Error(`server exited with ${server.exitCode}`);
+    try {
+      if ((await fetch(`${base}/api/health`)).ok) return;
+    } catch {
+      // not up yet
+    }
+    await new Promise((r) => setTimeout(r, 300));
+  }
+  throw new Error("server did not come up within 180 s");
+}
+
+/** A floor sheet's worth of counts (every category of one line, shift and date) as one API batch. */
+function sheetBatch(n: number, date: string): string {
+  const line = `L${String(1 + (n % PLANT.lines)).padStart(2, "0")}`;
+  const shift = ["A", "B", "C"][Math.floor(n / PLANT.lines) % 3];
+  const rows = Array.from({ length: PLANT.categories }, (_, k) => ({
+    date,
+    shift,
+    line,
+    category: `K${String(k + 1).padStart(2, "0")}`,
+    count: (n + k) % 4,
+  }));
+  return JSON.stringify({ rows });
+}
+
+/** The server's own RSS (the next-server process under the npx/tsx wrappers), MB. */
+function serverRssMb(root: number): number | null {
+  const children = (pid: number): number[] => {
+    try {
+      return readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8").trim().split(/\s+/).filter(Boolean).map(Number);
+    } catch {
+      return [];
+    }
+  };
+  let best: number | null = null;
+  const walk = (pid: number) => {
+    try {
+      const m = /VmRSS:\s+(\d+)/.exec(readFileSync(`/proc/${pid}/status`, "utf8"));
+      if (m) best = Math.max(best ?? 0, Number(m[1]) / 1024);
+    } catch {
+      // gone
+    }
+    for (const c of children(pid)) walk(c);
+  };
+  walk(root);
+  return best;
+}
+
+const fmt = (n: number, width: number, digits = 0) => n.toFixed(digits).padStart(width);
+
+/** GET with node:http and no timeout: a cold first page may take minutes, past fetch's header timeout. */
+function slowGet(target: string, cookie: string): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const req = httpRequest(target, { headers: { cookie } }, (res) => {
+      res.resume();
+      res.on("end", () => resolve(res.statusCode ?? 0));
+    });
+    req.on("error", reject);
+    req.end();
+  });
+}
+
+/** SIGTERM to the server's process group, SIGKILL if it has not gone within 10 s. */
+async function stopServer(child: ChildProcess): Promise<void> {
+  if (child.exitCode !== null || child.signalCode !== null) return;
+  const gone = new Promise<void>((r) => child.once("exit", () => r()));
+  const signal = (s: NodeJS.Signals) => {
+    try {
+      process.kill(-child.pid!, s);
+    } catch {
+      // already gone
+    }
+  };
+  signal("SIGTERM");
+  const timer = setTimeout(() => signal("SIGKILL"), 10_000);
+  await gone;
+  clearTimeout(timer);
+  // The group may outlive its leader (next-server under npx and tsx).
+  signal("SIGKILL");
+}
+
+let server: ChildProcess | null = null;
+try {
+  await applyPendingMigrations(url);
+  const t0 = performance.now();
+  const { lastDay, tallies } = buildPlant(url);
+  console.log(
+    `plant: ${PLANT.days} days × ${PLANT.lines} lines × ${PLANT.shifts} shifts × ${PLANT.categories} categories = ` +
+      `${tallies.toLocaleString("en")} tallies, built in ${((performance.now() - t0) / 1000).toFixed(1)} s`,
+  );
+
+  const sqlite = openSqlite(url);
+  await seedDemoAccounts(sqlite);
+  const who = (name: string) => (sqlite.prepare("SELECT id FROM User WHERE username = ?").get(name) as { id: number }).id;
+  const engineerId = who("engineer");
+  const adminId = who("admin");
+  sqlite.close();
+  const { token: apiToken } = await createApiToken("load bench", ["tallies:write"], adminId);
+  const { token: session } = await createSession(engineerId, "password");
+  await closeDb();
+  const cookie = `${SESSION_COOKIE}=${session}`;
+
+  server = spawn("npx", ["tsx", "lib/cli/start.ts"], {
+    env: { ...process.env, DATABASE_URL: url, PORT: String(PORT), LINEMIX_DIST_DIR: DIST, NEXT_TELEMETRY_DISABLED: "1" },
+    stdio: ["ignore", "ignore", "inherit"],
+    detached: true,
+  });
+  const base = `http://127.0.0.1:${PORT}`;
+  await waitForHealth(base, server);
+
+  const windowStart = addDays(lastDay, -35);
+  const windowPath = `/comparisons/lines/windows/${windowStart}`;
+  const today = localToday();
+  const acknowledged = new Set<string>();
+  let sent = 0;
+  const postRequest: CannonRequest = {
+    method: "POST",
+    path: "/api/v1/tallies",
+    setupRequest: (request) => {
+      const n = sent++;
+      return {
+        ...request,
+        headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": `load-${process.pid}-${n}` },
+        body: sheetBatch(n, today),
+      };
+    },
+    onResponse: (status, body) => {
+      if (status === 201 || status === 200) acknowledged.add((JSON.parse(body) as { idempotencyKey: string }).idempotencyKey);
+    },
+  };
+
+  // Warm-up: the first overview builds every saved comparison's scan. Meanwhile a floor
+  // sheet is posted and the health route asked, to see whether the floor waits for it.
+  {
+    const t = performance.now();
+    const cold = slowGet(`${base}/`, cookie);
+    await new Promise((r) => setTimeout(r, 2_000));
+    const during = async (label: string, call: () => Promise<Response>) => {
+      const t1 = performance.now();
+      const r = await call();
+      await r.text();
+      return `${label} HTTP ${r.status} in ${(performance.now() - t1).toFixed(0)} ms`;
+    };
+    const side = await Promise.all([
+      during("health", () => fetch(`${base}/api/health`, { signal: AbortSignal.timeout(1_800_000) })),
+      during("floor POST", () =>
+        fetch(`${base}/api/v1/tallies`, {
+          method: "POST",
+          headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": `load-${process.pid}-cold` },
+          body: sheetBatch(0, today),
+          signal: AbortSignal.timeout(1_800_000),
+        }).then((r) => {
+          if (r.status === 201) acknowledged.add(`load-${process.pid}-cold`);
+          return r;
+        }),
+      ),
+    ]).catch((error: unknown) => [`side requests failed: ${String(error)}`]);
+    const status = await cold;
+    if (status !== 200) throw new Error(`warm-up /: HTTP ${status}`);
+    console.log(`warm-up (cold) /: ${(performance.now() - t).toFixed(0)} ms; during it: ${side.join(", ")}`);
+    const t2 = performance.now();
+    if ((await slowGet(`${base}${windowPath}`, cookie)) !== 200) throw new Error(`warm-up ${windowPath} failed`);
+    console.log(`warm-up (cold) ${windowPath}: ${(performance.now() - t2).toFixed(0)} ms`);
+  }
+
+  type Phase = { name: string; posts: number; overview: number; windows: number };
+  const mixed: Phase = {
+    name: "mixed",
+    posts: Math.round(CONNECTIONS * 0.4),
+    overview: Math.round(CONNECTIONS * 0.3),
+    windows: CONNECTIONS - Math.round(CONNECTIONS * 0.4) - Math.round(CONNECTIONS * 0.3),
+  };
+  const PHASES: Record<string, Phase> = {
+    reads: { name: "reads only", posts: 0, overview: mixed.overview, windows: mixed.windows },
+    posts: { name: "posts only", posts: mixed.posts, overview: 0, windows: 0 },
+    mixed,
+  };
+  const chosen = (process.env.BENCH_PHASES ?? "mixed").split(",").map((p) => PHASES[p.trim()]).filter(Boolean);
+  let verdict = true;
+  for (const phase of chosen) {
+    const common = { url: base, duration: SECONDS, timeout: 30, ...(RATE > 0 ? { connectionRate: RATE } : {}) };
+    const clients = phase.posts + phase.overview + phase.windows;
+    console.log(
+      `\n${phase.name}: ${clients} clients for ${SECONDS} s over loopback (${phase.posts} posting floor sheets, ` +
+        `${phase.overview} reading the overview, ${phase.windows} a window page), ` +
+        `${RATE > 0 ? `${RATE} requests/s per client` : "each as fast as answered"}; load average before: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
+    );
+    const runs = await Promise.all([
+      phase.posts ? autocannon({ ...common, connections: phase.posts, requests: [postRequest] }).then((r) => ({ name: "floor POST", c: phase.posts, r })) : null,
+      phase.overview
+        ? autocannon({ ...common, connections: phase.overview, requests: [{ method: "GET", path: "/", headers: { cookie } }] }).then((r) => ({ name: "overview /", c: phase.overview, r }))
+        : null,
+      phase.windows
+        ? autocannon({ ...common, connections: phase.windows, requests: [{ method: "GET", path: windowPath, headers: { cookie } }] }).then((r) => ({ name: "window page", c: phase.windows, r }))
+        : null,
+    ]);
+    const rows = runs.filter((x): x is { name: string; c: number; r: CannonResult } => x !== null);
+    console.log("kind          clients  requests   req/s   p50 ms   p90 ms   p99 ms   max ms  errors  non-2xx  p99 ≤ 500");
+    for (const { name, c, r } of rows) {
+      const bad = r.errors + r.timeouts + r.non2xx;
+      console.log(
+        `${name.padEnd(13)} ${fmt(c, 7)} ${fmt(r.requests.total, 9)} ${fmt(r.requests.total / r.duration, 7, 1)} ${fmt(r.latency.p50, 8)} ` +
+          `${fmt(r.latency.p90, 8)} ${fmt(r.latency.p99, 8)} ${fmt(r.latency.max, 8)} ${fmt(r.errors + r.timeouts, 7)} ${fmt(r.non2xx, 8)}  ${r.latency.p99 <= P99_TARGET_MS && bad === 0 ? "✓" : "✗"}`,
+      );
+    }
+    const total = rows.reduce((s, { r }) => s + r.requests.total, 0);
+    const errors = rows.reduce((s, { r }) => s + r.errors + r.timeouts + r.non2xx, 0);
+    const worstP99 = Math.max(...rows.map(({ r }) => r.latency.p99));
+    const duration = Math.max(...rows.map(({ r }) => r.duration));
+    const ok = worstP99 <= P99_TARGET_MS && errors === 0;
+    verdict &&= ok;
+    console.log(
+      `${"all".padEnd(13)} ${fmt(clients, 7)} ${fmt(total, 9)} ${fmt(total / duration, 7, 1)} ${"".padStart(8)} ${"".padStart(8)} ${fmt(worstP99, 8)} ${"".padStart(8)} ${fmt(errors, 7)}` +
+        `${"".padStart(9)}  ${ok ? "✓" : "✗"}`,
+    );
+  }
+  const rss = server.pid ? serverRssMb(server.pid) : null;
+
+  // 200 concurrent POSTs of one batch under one key, on the same server and file.
+  const sameKey = `load-same-key-${process.pid}`;
+  const sameBody = sheetBatch(7, today);
+  const sameStatuses = await Promise.all(
+    Array.from({ length: SAME_KEY_POSTS }, () =>
+      fetch(`${base}/api/v1/tallies`, {
+        method: "POST",
+        headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": sameKey },
+        body: sameBody,
+        signal: AbortSignal.timeout(120_000),
+      }).then(async (r) => ({ status: r.status, id: ((await r.json()) as { submissionId?: number }).submissionId ?? null })),
+    ),
+  );
+
+  await stopServer(server);
+  server = null;
+
+  const db = new Database(file, { readonly: true });
+  const stored = db
+    .prepare("SELECT idempotencyKey AS key, rows FROM Submission WHERE idempotencyKey LIKE 'load-%' AND idempotencyKey NOT LIKE 'load-same-key-%'")
+    .all() as { key: string; rows: number }[];
+  const entryRows = (db.prepare("SELECT COUNT(*) AS n FROM TallyEntry WHERE idempotencyKey LIKE 'sub:load-%' AND idempotencyKey NOT LIKE 'sub:load-same-key-%'").get() as { n: number }).n;
+  const storedKeys = new Set(stored.map((s) => s.key));
+  const missing = [...acknowledged].filter((k) => !storedKeys.has(k));
+  const unacknowledgedStored = stored.filter((s) => !acknowledged.has(s.key)).length;
+  const sameSubmissions = (db.prepare("SELECT COUNT(*) AS n FROM Submission WHERE idempotencyKey = ?").get(sameKey) as { n: number }).n;
+  const sameRows = (db.prepare("SELECT COUNT(*) AS n FROM TallyEntry WHERE idempotencyKey >= ? AND idempotencyKey < ?").get(`sub:${sameKey}:`, `sub:${sameKey};`) as { n: number }).n;
+  const integrity = (db.pragma("integrity_check") as { integrity_check: string }[])[0].integrity_check;
+  db.close();
+
+  const storedOnce = missing.length === 0 && entryRows === stored.length * PLANT.categories && stored.every((s) => s.rows === PLANT.categories);
+  console.log(
+    `\nstored once: ${acknowledged.size.toLocaleString("en")} batches acknowledged (2xx), ${stored.length.toLocaleString("en")} in SQLite ` +
+      `with ${entryRows.toLocaleString("en")} rows (${PLANT.categories} each); acknowledged but missing: ${missing.length}; ` +
+      `stored whose answer the end of the run cut off: ${unacknowledgedStored}  ${storedOnce ? "✓" : "✗"}`,
+  );
+  const created = sameStatuses.filter((s) => s.status === 201).length;
+  const replays = sameStatuses.filter((s) => s.status === 200).length;
+  const ids = new Set(sameStatuses.map((s) => s.id));
+  const sameOk = created === 1 && replays === SAME_KEY_POSTS - 1 && ids.size === 1 && sameSubmissions === 1 && sameRows === PLANT.categories;
+  console.log(
+    `same key: ${SAME_KEY_POSTS} concurrent POSTs of one batch → ${created} × 201, ${replays} × 200 replay, ` +
+      `${SAME_KEY_POSTS - created - replays} other; ${ids.size} submission id; ${sameSubmissions} Submission row, ${sameRows} tally rows  ${sameOk ? "✓" : "✗"}`,
+  );
+  console.log(`integrity_check: ${integrity}; server RSS after the run: ${rss === null ? "n/a" : `${rss.toFixed(0)} MB`}`);
+  console.log(
+    `machine: ${cpus().length} × ${cpus()[0]?.model ?? "cpu"}, ${(totalmem() / 2 ** 30).toFixed(1)} GB RAM (${(freemem() / 2 ** 30).toFixed(1)} GB free), ` +
+      `Node ${process.version}, load average after: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
+  );
+  if (!storedOnce || !sameOk || integrity !== "ok") process.exitCode = 1;
+  if (!verdict) console.log(`latency or error target missed (p99 ≤ ${P99_TARGET_MS} ms, no errors): see the tables above`);
+} finally {
+  if (server) await stopServer(server);
+  rmSync(dir, { recursive: true, force: true });
+}
