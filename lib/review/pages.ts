@@ -62,13 +62,13 @@ export async function overviewData() {
   return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null };
 }
 
-export async function timelineData(code: string) {
+export async function timelineData(code: string, rateGroup: string | null = null) {
   const c = await getComparison(code);
   if (!c) return null;
   const n = await names();
   const run = await runComparison(c);
   const rates = rateSeries(run);
-  const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates);
+  const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates, rateGroup);
   const flagged = run.windows.filter((w) => w.flagged);
   const recent = run.windows.slice(-14).reverse();
   const hrefs = await episodeHrefs(c.code, run.episodes);

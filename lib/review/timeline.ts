@@ -1,6 +1,6 @@
 import type { ComparisonRecord } from "@/lib/db/comparisons";
 import type { Episode, ScanWindow } from "@/lib/monitor/types";
-import { formatDay, formatP, formatRange, formatV, minusLog10 } from "./format";
+import { formatDay, formatRange, minusLog10 } from "./format";
 import type { Names } from "./names";
 import { stateOf, type ComparisonState } from "./overview";
 
@@ -26,9 +26,9 @@ export interface TimelinePoint {
   v: number | null;
   flagged: boolean;
   state: ComparisonState;
-  /** Tooltip lines, prepared here so the chart only prints. */
-  label: string;
-  detail: string;
+  /** Defects in the window and its adjusted p, for the tooltip. */
+  n: number;
+  adjustedP: number | null;
 }
 
 export interface TimelineBand {
@@ -41,12 +41,23 @@ export interface TimelineBand {
   peakStart: string;
 }
 
-export interface RatePanelGroup {
-  code: string;
-  name: string;
-  points: { x: number; end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; outside: "above" | "below" | null; windowFlagged: boolean }[];
-  /** Windows where the rate test flagged and this group sat outside its limits. */
-  signals: number;
+export interface RatePanelPoint {
+  x: number;
+  end: string;
+  u: number | null;
+  centre: number | null;
+  upper: number | null;
+  lower: number | null;
+  outside: "above" | "below" | null;
+  windowFlagged: boolean;
+}
+
+export interface RatePanel {
+  /** Every group, with how many windows carry a rate signal for it (rate test flagged, group outside its limits). */
+  groups: { code: string; name: string; signals: number }[];
+  /** The group drawn (only its series is sent to the browser). */
+  selected: string;
+  points: RatePanelPoint[];
 }
 
 export interface TimelineData {
@@ -59,9 +70,14 @@ export interface TimelineData {
   xMax: number;
   /** x positions of month starts (≤ 13 of them), with their labels. */
   ticks: { x: number; label: string }[];
-  rate: RatePanelGroup[] | null;
+  rate: RatePanel | null;
   /** Summary for the text alternative. */
   summary: string;
+}
+
+/** Five significant digits: enough for a chart, a fraction of the bytes. */
+function sig(x: number | null): number | null {
+  return x === null ? null : Number(x.toPrecision(5));
 }
 
 export function dayNumberOf(iso: string): number {
@@ -77,14 +93,12 @@ export function shapeTimeline(
     groups: string[];
     byGroup: Record<string, ({ end: string; u: number | null; centre: number | null; upper: number | null; lower: number | null; outside: "above" | "below" | null; windowFlagged: boolean } | null)[]>;
   } | null,
+  rateGroup?: string | null,
 ): TimelineData {
   const points: TimelinePoint[] = windows.map((w, i) => {
     const raw = minusLog10(w.adjustedPValue, 400);
     const capped = raw !== null && raw > MINUS_LOG10_CAP;
     const state = stateOf(w);
-    const detail = !w.testable
-      ? `Not testable: ${w.reason ?? "too few counts"}`
-      : `adjusted p ${formatP(w.adjustedPValue)} · V ${formatV(w.cramersVCorrected)} · ${w.n.toLocaleString("en-GB")} defects${w.flagged ? " · flagged" : ""}`;
     return {
       i,
       start: w.start,
@@ -95,8 +109,8 @@ export function shapeTimeline(
       v: w.cramersVCorrected,
       flagged: w.flagged,
       state,
-      label: formatRange(w.start, w.end),
-      detail,
+      n: w.n,
+      adjustedP: w.adjustedPValue,
     };
   });
   const bands: TimelineBand[] = episodes.map((e, k) => {
@@ -114,20 +128,26 @@ export function shapeTimeline(
       peakStart: e.peak.start,
     };
   });
-  const rate = rates
-    ? rates.groups.map((g) => {
-        const series = rates.byGroup[g] ?? [];
-        const pts = series
-          .filter((p) => p !== null)
-          .map((p) => ({ x: dayNumberOf(p.end), end: p.end, u: p.u, centre: p.centre, upper: p.upper, lower: p.lower, outside: p.outside, windowFlagged: p.windowFlagged }));
-        return {
-          code: g,
-          name: names.row(c.compare, g, c.historyWeeks),
-          points: pts,
-          signals: pts.filter((p) => p.outside !== null && p.windowFlagged).length,
-        };
-      })
-    : null;
+  let rate: RatePanel | null = null;
+  if (rates && rates.groups.length) {
+    const signals = (g: string) => (rates.byGroup[g] ?? []).filter((p) => p !== null && p.outside !== null && p.windowFlagged).length;
+    const groups = rates.groups.map((g) => ({ code: g, name: names.row(c.compare, g, c.historyWeeks), signals: signals(g) }));
+    const byDefault = [...groups].sort((a, b) => b.signals - a.signals)[0].code;
+    const selected = rateGroup && rates.groups.includes(rateGroup) ? rateGroup : byDefault;
+    const points = (rates.byGroup[selected] ?? [])
+      .filter((p) => p !== null)
+      .map((p) => ({
+        x: dayNumberOf(p.end),
+        end: p.end,
+        u: sig(p.u),
+        centre: sig(p.centre),
+        upper: sig(p.upper),
+        lower: sig(p.lower),
+        outside: p.outside,
+        windowFlagged: p.windowFlagged,
+      }));
+    rate = { groups, selected, points };
+  }
   const flagged = points.filter((p) => p.flagged).length;
   const testable = points.filter((p) => p.state !== "untestable").length;
   const summary =

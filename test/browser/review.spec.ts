@@ -72,7 +72,8 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   await expect(page.getByTestId("method")).toContainText("Cochran");
   await expect(page.locator('[data-chart="contribution"] svg').first()).toBeVisible();
   await expect(page.locator('[data-chart="mix"] svg').first()).toBeVisible();
-  await expect(page.locator('[data-chart="pareto"] svg')).toHaveCount(5);
+  await expect(page.locator('[data-chart="pareto"] svg[role="img"]')).toHaveCount(5);
+  await expect(page.locator('[data-chart="pareto"] svg[role="img"]').nth(2)).toHaveAttribute("aria-label", /^Pareto chart of Press line 3: Seal leak/);
   await shot(page, "window");
 });
 

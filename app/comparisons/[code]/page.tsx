@@ -15,18 +15,22 @@ import "../../components/review/review.css";
 
 export const dynamic = "force-dynamic";
 
-type Params = { params: Promise<{ code: string }> };
+type Params = { params: Promise<{ code: string }>; searchParams: Promise<{ rate?: string | string[]; all?: string | string[] }> };
 
 export async function generateMetadata({ params }: Params): Promise<Metadata> {
   const { code } = await params;
   return { title: `Timeline ${decodeURIComponent(code)}` };
 }
 
-export default async function TimelinePage({ params }: Params) {
+const one = (v: string | string[] | undefined) => (Array.isArray(v) ? v[0] : v);
+
+export default async function TimelinePage({ params, searchParams }: Params) {
   const { code: raw } = await params;
+  const sp = await searchParams;
+  const showAll = one(sp.all) === "1";
   const code = decodeURIComponent(raw);
   await requirePageUser("engineer", { path: `/comparisons/${raw}` });
-  const data = await timelineData(code);
+  const data = await timelineData(code, one(sp.rate) ?? null);
   if (!data) notFound();
   const { comparison: c, timeline, episodes, names } = data;
   const latest = data.windows.at(-1);
@@ -72,11 +76,11 @@ export default async function TimelinePage({ params }: Params) {
       {timeline.rate ? (
         <figure className="chart-card" aria-labelledby="rate-heading">
           <h2 id="rate-heading">Defects per unit, group by group</h2>
-          <RateChart groups={timeline.rate} ticks={timeline.ticks} xMin={timeline.xMin} xMax={timeline.xMax} />
+          <RateChart panel={timeline.rate} ticks={timeline.ticks} xMin={timeline.xMin} xMax={timeline.xMax} />
           <figcaption>
             The mix test above says nothing about the rate. Here each group&apos;s defects per unit over the same windows, with u-chart limits
             around the window&apos;s pooled rate of all compared groups. Windows with a rate signal (rate test flagged, group outside its limits):{" "}
-            {timeline.rate.map((g) => `${g.name}: ${g.signals}`).join("; ")}.
+            {timeline.rate.groups.map((g) => `${g.name}: ${g.signals}`).join("; ")}.
           </figcaption>
         </figure>
       ) : null}
@@ -129,10 +133,22 @@ export default async function TimelinePage({ params }: Params) {
         <h2 id="windows-heading">Windows</h2>
         <h3>Latest 14</h3>
         <WindowTable windows={data.recent} base={base} />
-        <details className="all-windows">
-          <summary>All {data.windows.length} windows, newest first</summary>
-          <WindowTable windows={[...data.windows].reverse()} base={base} />
-        </details>
+        {data.flagged.length ? (
+          <>
+            <h3>Flagged ({data.flagged.length})</h3>
+            <WindowTable windows={[...data.flagged].reverse()} base={base} />
+          </>
+        ) : null}
+        {showAll ? (
+          <>
+            <h3>All {data.windows.length} windows, newest first</h3>
+            <WindowTable windows={[...data.windows].reverse()} base={base} />
+          </>
+        ) : (
+          <p>
+            <Link href={`${base}?all=1#windows-heading`}>Show all {data.windows.length} windows</Link>
+          </p>
+        )}
       </section>
     </>
   );

@@ -1,31 +1,41 @@
 "use client";
 
-import { useId, useState } from "react";
+import { usePathname, useRouter, useSearchParams } from "next/navigation";
+import { useId, useTransition } from "react";
 import { CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis, type DotItemDotProps, type TooltipContentProps } from "recharts";
-import type { RatePanelGroup } from "@/lib/review/timeline";
+import type { RatePanel, RatePanelPoint } from "@/lib/review/timeline";
 import { CHART } from "./palette";
 
-type Point = RatePanelGroup["points"][number];
+type Point = RatePanelPoint;
 
 /**
  * Defects per unit of one group per window, with the u-chart centre line (the window's
  * pooled rate over the compared groups) and the group's limits (step lines, since they
  * move with the units inspected). Outside the limits: a filled square where the window's
- * rate test flagged, a hollow one otherwise. A select picks the group; groups with
- * signals are listed first.
+ * rate test flagged, a hollow one otherwise. The select picks the group through the URL
+ * (?rate=CODE), so only one group's series travels to the browser; groups with signals
+ * are listed first.
  */
-export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGroup[]; ticks: { x: number; label: string }[]; xMin: number; xMax: number }) {
-  const ordered = [...groups].sort((a, b) => b.signals - a.signals);
-  const [code, setCode] = useState(ordered[0]?.code ?? "");
+export function RateChart({ panel, ticks, xMin, xMax }: { panel: RatePanel; ticks: { x: number; label: string }[]; xMin: number; xMax: number }) {
+  const ordered = [...panel.groups].sort((a, b) => b.signals - a.signals);
+  const router = useRouter();
+  const pathname = usePathname();
+  const search = useSearchParams();
+  const [pending, startTransition] = useTransition();
   const id = useId();
-  const group = groups.find((g) => g.code === code) ?? ordered[0];
+  const group = panel.groups.find((g) => g.code === panel.selected) ?? ordered[0];
   if (!group) return null;
+  const choose = (code: string) => {
+    const next = new URLSearchParams(search.toString());
+    next.set("rate", code);
+    startTransition(() => router.replace(`${pathname}?${next.toString()}`, { scroll: false }));
+  };
   const tickLabel = (x: number) => ticks.find((t) => t.x === x)?.label ?? "";
   return (
     <div data-chart="rate">
       <div className="field inline-field no-print">
         <label htmlFor={id}>Group</label>
-        <select id={id} value={group.code} onChange={(e) => setCode(e.target.value)}>
+        <select id={id} value={group.code} onChange={(e) => choose(e.target.value)} aria-busy={pending}>
           {ordered.map((g) => (
             <option key={g.code} value={g.code}>
               {g.name}
@@ -35,7 +45,7 @@ export function RateChart({ groups, ticks, xMin, xMax }: { groups: RatePanelGrou
         </select>
       </div>
       <ComposedChart
-        data={group.points}
+        data={panel.points}
         responsive
         style={{ width: "100%", height: 220 }}
         margin={{ top: 10, right: 16, bottom: 4, left: 4 }}

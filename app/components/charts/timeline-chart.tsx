@@ -15,6 +15,7 @@ import {
   type MouseHandlerDataParam,
   type TooltipContentProps,
 } from "recharts";
+import { formatP, formatRange, formatV } from "@/lib/review/format";
 import type { TimelineData, TimelinePoint } from "@/lib/review/timeline";
 import { CHART } from "./palette";
 
@@ -131,10 +132,14 @@ function TimelineTooltip(props: TooltipContentProps) {
   if (!props.active || !props.payload?.length) return null;
   const p = props.payload[0]?.payload as TimelinePoint | undefined;
   if (!p) return null;
+  const detail =
+    p.state === "untestable"
+      ? "Not testable"
+      : `adjusted p ${formatP(p.adjustedP)} · V ${formatV(p.v)} · ${p.n.toLocaleString("en-GB")} defects${p.flagged ? " · flagged" : ""}`;
   return (
     <div className="chart-tooltip">
-      <strong>{p.label}</strong>
-      <div>{p.detail}</div>
+      <strong>{formatRange(p.start, p.end)}</strong>
+      <div>{detail}</div>
       {p.capped ? <div>p below 10⁻⁵⁰: drawn at the top</div> : null}
       <div className="muted">Click to open this window</div>
     </div>

@@ -8,7 +8,7 @@ import { windowData } from "@/lib/review/pages";
 import type { WindowView } from "@/lib/review/window";
 import { ContributionChart } from "../../../../components/charts/contribution-chart";
 import { MixChart } from "../../../../components/charts/mix-chart";
-import { ParetoChart } from "../../../../components/charts/pareto-chart";
+import { ParetoSvg } from "../../../../components/charts/pareto-svg";
 import { HeatmapTable } from "../../../../components/review/heatmap-table";
 import { ReadingBlock } from "../../../../components/review/reading-block";
 import { SettingsSummary } from "../../../../components/review/settings-summary";
@@ -174,7 +174,9 @@ function WindowBody({ view }: { view: WindowView }) {
           {view.pareto.map((p) => (
             <figure key={p.row} className="chart-card">
               <h3>{p.name}</h3>
-              <ParetoChart name={p.name} bars={p.bars} />
+              <div data-chart="pareto">
+                <ParetoSvg name={p.name} bars={p.bars} />
+              </div>
               <figcaption>
                 Largest: {p.bars
                   .slice(0, 3)
