@@ -11,7 +11,9 @@
 // Options (environment): BENCH_CONNECTIONS (50), BENCH_SECONDS (60), BENCH_RATE (requests
 // per second per client, default 2 — a floor terminal or an engineer's browser does far
 // less; 0 = as fast as the server answers, a saturation run), BENCH_PHASES (comma list of
-// reads, posts, mixed; default mixed), BENCH_PORT (3351).
+// reads, posts, mixed, plant; default mixed,plant — "plant" is the same 50 clients, each
+// pausing BENCH_THINK_MS (5,000) on average between requests, about 10 requests/s in
+// all, still more than a plant's floor and engineers make), BENCH_PORT (3351).
 import Database from "better-sqlite3";
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
@@ -25,6 +27,7 @@ const PORT = Number(process.env.BENCH_PORT ?? 3351);
 const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 50);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 60);
 const RATE = Number(process.env.BENCH_RATE ?? 2);
+const THINK_MS = Number(process.env.BENCH_THINK_MS ?? 5_000);
 const SAME_KEY_POSTS = 200;
 const P99_TARGET_MS = 500;
 
@@ -130,16 +133,72 @@ function serverRssMb(root: number): number | null {
 
 const fmt = (n: number, width: number, digits = 0) => n.toFixed(digits).padStart(width);
 
-/** GET with node:http and no timeout: a cold first page may take minutes, past fetch's header timeout. */
-function slowGet(target: string, cookie: string): Promise<number> {
+/** node:http with no timeout: a cold first page may take minutes, past fetch's header timeout. */
+function slowRequest(target: string, options: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<{ status: number; body: string }> {
   return new Promise((resolve, reject) => {
-    const req = httpRequest(target, { headers: { cookie } }, (res) => {
-      res.resume();
-      res.on("end", () => resolve(res.statusCode ?? 0));
+    const req = httpRequest(target, { method: options.method ?? "GET", headers: options.headers ?? {} }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on("data", (c: Buffer) => chunks.push(c));
+      res.on("end", () => resolve({ status: res.statusCode ?? 0, body: Buffer.concat(chunks).toString() }));
     });
     req.on("error", reject);
-    req.end();
+    req.end(options.body);
   });
+}
+
+const slowGet = async (target: string, cookie: string) => (await slowRequest(target, { headers: { cookie } })).status;
+
+type Call = { method: string; path: string; headers: Record<string, string>; body?: string };
+
+/**
+ * Users with think time (autocannon's rates are whole requests per second per
+ * connection, fired together at each second): each of `users` waits an exponentially
+ * distributed pause of mean `thinkMs`, sends one request, waits for the answer, and so on
+ * until `seconds` have passed. Latencies are measured per request.
+ */
+async function thinkingUsers(
+  base: string,
+  users: number,
+  thinkMs: number,
+  seconds: number,
+  make: () => Call,
+  onResponse: (status: number, body: string) => void = () => {},
+): Promise<CannonResult> {
+  const latencies: number[] = [];
+  let errors = 0;
+  let non2xx = 0;
+  const started = performance.now();
+  const until = started + seconds * 1000;
+  const user = async () => {
+    for (;;) {
+      await new Promise((r) => setTimeout(r, -Math.log(1 - Math.random()) * thinkMs));
+      if (performance.now() >= until) return;
+      const call = make();
+      const t = performance.now();
+      try {
+        const r = await fetch(`${base}${call.path}`, { method: call.method, headers: call.headers, body: call.body, signal: AbortSignal.timeout(30_000) });
+        const text = await r.text();
+        latencies.push(performance.now() - t);
+        if (r.status < 200 || r.status > 299) non2xx++;
+        onResponse(r.status, text);
+      } catch {
+        errors++;
+      }
+    }
+  };
+  await Promise.all(Array.from({ length: users }, user));
+  const sorted = latencies.sort((a, b) => a - b);
+  const at = (q: number) => (sorted.length ? sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)] : 0);
+  return {
+    requests: { total: sorted.length, average: sorted.length / seconds },
+    latency: { average: sorted.reduce((a, b) => a + b, 0) / Math.max(1, sorted.length), p50: at(0.5), p90: at(0.9), p99: at(0.99), max: sorted.at(-1) ?? 0 },
+    errors,
+    timeouts: 0,
+    non2xx,
+    "2xx": sorted.length - non2xx,
+    duration: (performance.now() - started) / 1000,
+    statusCodeStats: {},
+  };
 }
 
 /** SIGTERM to the server's process group, SIGKILL if it has not gone within 10 s. */
@@ -195,6 +254,9 @@ try {
   const today = localToday();
   const acknowledged = new Set<string>();
   let sent = 0;
+  const onPostResponse = (status: number, body: string) => {
+    if (status === 201 || status === 200) acknowledged.add((JSON.parse(body) as { idempotencyKey: string }).idempotencyKey);
+  };
   const postRequest: CannonRequest = {
     method: "POST",
     path: "/api/v1/tallies",
@@ -206,9 +268,7 @@ try {
         body: sheetBatch(n, today),
       };
     },
-    onResponse: (status, body) => {
-      if (status === 201 || status === 200) acknowledged.add((JSON.parse(body) as { idempotencyKey: string }).idempotencyKey);
-    },
+    onResponse: (status, body) => onPostResponse(status, body),
   };
 
   // Warm-up: the first overview builds every saved comparison's scan. Meanwhile a floor
@@ -217,20 +277,18 @@ try {
     const t = performance.now();
     const cold = slowGet(`${base}/`, cookie);
     await new Promise((r) => setTimeout(r, 2_000));
-    const during = async (label: string, call: () => Promise<Response>) => {
+    const during = async (label: string, call: () => Promise<{ status: number }>) => {
       const t1 = performance.now();
       const r = await call();
-      await r.text();
-      return `${label} HTTP ${r.status} in ${(performance.now() - t1).toFixed(0)} ms`;
+      return `${label} HTTP ${r.status} after ${(performance.now() - t1).toFixed(0)} ms`;
     };
     const side = await Promise.all([
-      during("health", () => fetch(`${base}/api/health`, { signal: AbortSignal.timeout(1_800_000) })),
+      during("health", () => slowRequest(`${base}/api/health`)),
       during("floor POST", () =>
-        fetch(`${base}/api/v1/tallies`, {
+        slowRequest(`${base}/api/v1/tallies`, {
           method: "POST",
           headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": `load-${process.pid}-cold` },
           body: sheetBatch(0, today),
-          signal: AbortSignal.timeout(1_800_000),
         }).then((r) => {
           if (r.status === 201) acknowledged.add(`load-${process.pid}-cold`);
           return r;
@@ -245,7 +303,7 @@ try {
     console.log(`warm-up (cold) ${windowPath}: ${(performance.now() - t2).toFixed(0)} ms`);
   }
 
-  type Phase = { name: string; posts: number; overview: number; windows: number };
+  type Phase = { name: string; posts: number; overview: number; windows: number; thinkMs?: number };
   const mixed: Phase = {
     name: "mixed",
     posts: Math.round(CONNECTIONS * 0.4),
@@ -256,8 +314,9 @@ try {
     reads: { name: "reads only", posts: 0, overview: mixed.overview, windows: mixed.windows },
     posts: { name: "posts only", posts: mixed.posts, overview: 0, windows: 0 },
     mixed,
+    plant: { ...mixed, name: "plant-like", thinkMs: THINK_MS },
   };
-  const chosen = (process.env.BENCH_PHASES ?? "mixed").split(",").map((p) => PHASES[p.trim()]).filter(Boolean);
+  const chosen = (process.env.BENCH_PHASES ?? "mixed,plant").split(",").map((p) => PHASES[p.trim()]).filter(Boolean);
   let verdict = true;
   for (const phase of chosen) {
     const common = { url: base, duration: SECONDS, timeout: 30, ...(RATE > 0 ? { connectionRate: RATE } : {}) };
@@ -265,16 +324,27 @@ try {
     console.log(
       `\n${phase.name}: ${clients} clients for ${SECONDS} s over loopback (${phase.posts} posting floor sheets, ` +
         `${phase.overview} reading the overview, ${phase.windows} a window page), ` +
-        `${RATE > 0 ? `${RATE} requests/s per client` : "each as fast as answered"}; load average before: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
+        `${phase.thinkMs ? `each pausing ${phase.thinkMs / 1000} s on average between requests` : RATE > 0 ? `${RATE} requests/s per client` : "each as fast as answered"}; ` +
+        `load average before: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
     );
+    const get = (route: string): Call => ({ method: "GET", path: route, headers: { cookie } });
+    const load = (count: number, call: () => Call, request: CannonRequest, onResponse?: (status: number, body: string) => void) =>
+      phase.thinkMs
+        ? thinkingUsers(base, count, phase.thinkMs, SECONDS, call, onResponse)
+        : autocannon({ ...common, connections: count, requests: [request] });
+    const postCall = (): Call => {
+      const n = sent++;
+      return {
+        method: "POST",
+        path: "/api/v1/tallies",
+        headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": `load-${process.pid}-${n}` },
+        body: sheetBatch(n, today),
+      };
+    };
     const runs = await Promise.all([
-      phase.posts ? autocannon({ ...common, connections: phase.posts, requests: [postRequest] }).then((r) => ({ name: "floor POST", c: phase.posts, r })) : null,
-      phase.overview
-        ? autocannon({ ...common, connections: phase.overview, requests: [{ method: "GET", path: "/", headers: { cookie } }] }).then((r) => ({ name: "overview /", c: phase.overview, r }))
-        : null,
-      phase.windows
-        ? autocannon({ ...common, connections: phase.windows, requests: [{ method: "GET", path: windowPath, headers: { cookie } }] }).then((r) => ({ name: "window page", c: phase.windows, r }))
-        : null,
+      phase.posts ? load(phase.posts, postCall, postRequest, onPostResponse).then((r) => ({ name: "floor POST", c: phase.posts, r })) : null,
+      phase.overview ? load(phase.overview, () => get("/"), get("/")).then((r) => ({ name: "overview /", c: phase.overview, r })) : null,
+      phase.windows ? load(phase.windows, () => get(windowPath), get(windowPath)).then((r) => ({ name: "window page", c: phase.windows, r })) : null,
     ]);
     const rows = runs.filter((x): x is { name: string; c: number; r: CannonResult } => x !== null);
     console.log("kind          clients  requests   req/s   p50 ms   p90 ms   p99 ms   max ms  errors  non-2xx  p99 ≤ 500");
