@@ -71,7 +71,7 @@ export function RateChart({ panel, ticks, xMin, xMax }: { panel: RatePanel; tick
 function SignalDot(props: DotItemDotProps) {
   const p = props.payload as Point | undefined;
   const { cx, cy } = props as unknown as { cx?: number; cy?: number };
-  if (!p || !p.outside || cx === undefined || cy === undefined) return <g key={props.index} />;
+  if (!p || !p.outside || cx === undefined || cy === undefined) return null;
   // Filled square: outside the limits in a window whose rate test flagged; hollow: outside the limits only.
   return p.windowFlagged ? (
     <rect key={props.index} x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal={p.outside} />

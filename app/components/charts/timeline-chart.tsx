@@ -114,7 +114,7 @@ export function TimelineChart({ code, data }: { code: string; data: TimelineData
 function FlaggedDot(props: DotItemDotProps) {
   const p = props.payload as TimelinePoint | undefined;
   const { cx, cy } = props as unknown as { cx?: number; cy?: number };
-  if (!p || !p.flagged || cx === undefined || cy === undefined) return <g key={props.index} />;
+  if (!p || !p.flagged || cx === undefined || cy === undefined) return null;
   const s = 4.5;
   return (
     <path
