@@ -6,6 +6,7 @@ import { POST as postImport } from "@/app/api/v1/imports/route";
 import { closeDb, db, rawDb } from "@/lib/db/client";
 import { databaseTrouble } from "@/lib/db/errors";
 import { createApiToken } from "@/lib/auth/api-tokens";
+import { createSession } from "@/lib/auth/sessions";
 import { useTempDatabase } from "../helpers/temp-db";
 import { count, seedPlant, type Plant } from "../intake/fixture";
 
@@ -23,9 +24,11 @@ import { count, seedPlant, type Plant } from "../intake/fixture";
 
 let ctx: Awaited<ReturnType<typeof useTempDatabase>>;
 let plant: Plant;
+let engineerCookie: string;
 beforeAll(async () => {
   ctx = await useTempDatabase();
   plant = await seedPlant();
+  engineerCookie = `linemix_session=${(await createSession(plant.users.engineer.userId!, "password")).token}`;
 });
 afterAll(async () => {
   delete process.env.LINEMIX_DB_READONLY;
@@ -38,6 +41,16 @@ function request(path: string, body: string, key: string | null, token = plant.t
   const headers: Record<string, string> = { "content-type": type, authorization: `Bearer ${token}` };
   if (key) headers["idempotency-key"] = key;
   return new Request(`${BASE}${path}`, { method: "POST", headers, body });
+}
+
+/** CSV uploads are for an engineer's signed-in session (tokens send rows to /api/v1/tallies). */
+function upload(path: string, csv: string): Request {
+  const host = new URL(BASE).host;
+  return new Request(`${BASE}${path}`, {
+    method: "POST",
+    headers: { host, origin: BASE, cookie: engineerCookie, "content-type": "text/csv" },
+    body: csv,
+  });
 }
 
 /** A batch big enough (about 1 MB) that it cannot fit in the pages a database already has. */
@@ -92,11 +105,11 @@ describe("the database is full", () => {
 
     // A CSV import through the upload route: all or nothing as well.
     const csv = ["date,shift,line,category,count,note", ...Array.from({ length: 3_000 }, (_, i) => `2026-04-02,A,L1,dent,${i % 5},${"n".repeat(300)}`)].join("\n");
-    const preview = await postImport(request("/api/v1/imports?dryRun=1", csv, null, plant.tokens.write, "text/csv"));
+    const preview = await postImport(upload("/api/v1/imports?dryRun=1", csv));
     expect(preview.status).toBe(200);
     const { contentHash } = (await preview.json()) as { contentHash: string };
     await expect503(
-      await postImport(request(`/api/v1/imports?expect=${contentHash}`, csv, null, plant.tokens.write, "text/csv")),
+      await postImport(upload(`/api/v1/imports?expect=${contentHash}`, csv)),
       "database-full",
       /The database is full/,
     );
@@ -106,7 +119,7 @@ describe("the database is full", () => {
     await limitPages(1_073_741_823);
     expect((await postTallies(request("/api/v1/tallies", body, "full-disk-batch-1"))).status).toBe(201);
     expect((await postTallies(request("/api/v1/tallies", body, "full-disk-batch-1"))).status).toBe(200);
-    expect((await postImport(request(`/api/v1/imports?expect=${contentHash}`, csv, null, plant.tokens.write, "text/csv"))).status).toBe(201);
+    expect((await postImport(upload(`/api/v1/imports?expect=${contentHash}`, csv))).status).toBe(201);
     expect(rowCounts()).toMatchObject({ submissions: before.submissions + 1, tallies: before.tallies + 2_500 + 3_000, imports: before.imports + 1 });
     expect((rawDb().pragma("integrity_check") as { integrity_check: string }[])[0].integrity_check).toBe("ok");
   });
