@@ -37,10 +37,7 @@ export function HeatmapTable({ view }: { view: WindowView }) {
                     data-beyond={h.beyond ? "true" : undefined}
                     title={`${r.name} × ${view.columns[j].name}: ${h.description}`}
                   >
-                    <span aria-hidden="true">
-                      {h.marker ? <span className="heat-marker">{h.marker}</span> : null}
-                      {h.printed}
-                    </span>
+                    <span aria-hidden="true">{h.marker ? `${h.marker} ${h.printed}` : h.printed}</span>
                     <span className="visually-hidden">{h.description}</span>
                   </td>
                 ))}

@@ -102,9 +102,11 @@ function WindowBody({ view }: { view: WindowView }) {
 
       <section aria-labelledby="counts-heading">
         <h2 id="counts-heading">Observed and expected counts</h2>
-        <p className="muted small">Each cell: observed count, and below it the count expected if every row had the table&apos;s overall mix.</p>
+        <p className="muted small" id="counts-note">
+          Each cell: the observed count, and below it the count expected if every row had the table&apos;s overall mix.
+        </p>
         <div className="table-scroll">
-          <table className="data counts" data-testid="counts">
+          <table className="data counts" data-testid="counts" aria-describedby="counts-note">
             <thead>
               <tr>
                 <th scope="col">Observed / expected</th>
@@ -122,11 +124,8 @@ function WindowBody({ view }: { view: WindowView }) {
                   <th scope="row">{r.name}</th>
                   {view.columns.map((c, j) => (
                     <td key={c.code} className={`num${view.heat[i][j].beyond ? " cell-beyond" : ""}`}>
-                      <span className="count-pair">{formatNumber(view.observed[i][j])}</span>
-                      <span className="count-pair count-expected">
-                        <span className="visually-hidden">expected </span>
-                        {formatExpected(view.expected[i][j])}
-                      </span>
+                      {formatNumber(view.observed[i][j])}
+                      <span className="count-expected">{formatExpected(view.expected[i][j])}</span>
                     </td>
                   ))}
                   <td className="num">{formatNumber(r.total)}</td>
