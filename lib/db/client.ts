@@ -44,7 +44,8 @@ export function openSqlite(url = databaseUrl(), options: Database.Options = {}):
   if (!options.readonly) db.pragma("journal_mode = WAL");
   db.pragma("foreign_keys = ON");
   db.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
-  db.pragma("synchronous = NORMAL");
+  // FULL: an acknowledged tally survives a power cut, not only a process crash (≈1.6 ms per commit here).
+  db.pragma("synchronous = FULL");
   return db;
 }
 

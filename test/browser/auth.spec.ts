@@ -86,7 +86,7 @@ test("the header shows only what the role may use", async ({ page }) => {
   await signIn(page, "operator");
   await expect(page).toHaveURL(/\/entry/);
   const nav = page.getByRole("navigation", { name: "Main" });
-  await expect(nav.getByRole("link")).toHaveText(["Floor entry"]);
+  await expect(nav.getByRole("link")).toHaveText(["Floor entry", "Corrections"]);
   await expect(page.locator(".header-user")).toContainText("Operator");
   await signOut(page);
 
@@ -190,6 +190,9 @@ test("a wrong PIN five times locks the badge", async ({ page }) => {
     const answered = page.waitForResponse((r) => r.request().method() === "POST" && new URL(r.url()).pathname === "/signin");
     await page.getByRole("button", { name: "Sign in with badge" }).click();
     await answered;
+    // The answer's render resets the form; until then the previous attempt's message is
+    // still on screen, so wait for the reset before reading the message or typing again.
+    await expect(page.getByLabel("PIN", { exact: true })).toHaveValue("");
     await expect(page.locator(".error-text")).toContainText(i < 5 ? "do not match" : "locked");
   }
   await page.getByLabel("Badge number").fill("1001");
