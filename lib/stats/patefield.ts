@@ -29,7 +29,15 @@ function orderBy(totals: readonly number[], ascending: boolean): Int32Array {
   return Int32Array.from(order);
 }
 
-function checkMargins(rowTotals: readonly number[], columnTotals: readonly number[]): number {
+/**
+ * Checks the margins of a random table (at least 2×2, non-negative whole
+ * totals, equal sums) and returns n; throws a RangeError otherwise. Shared by
+ * both samplers.
+ *
+ * @example
+ * checkTableMargins([2, 3], [4, 1]); // 5
+ */
+export function checkTableMargins(rowTotals: readonly number[], columnTotals: readonly number[]): number {
   if (rowTotals.length < 2 || columnTotals.length < 2) {
     throw new RangeError("a random table needs at least 2 rows and 2 columns");
   }
@@ -81,7 +89,7 @@ export function createRandomTableSampler(
   columnTotals: readonly number[],
   options: RandomTableSamplerOptions,
 ): RandomTableSampler {
-  const n = checkMargins(rowTotals, columnTotals);
+  const n = checkTableMargins(rowTotals, columnTotals);
   const rows = rowTotals.length;
   const columns = columnTotals.length;
   const cells = rows * columns;

@@ -4,11 +4,14 @@
  * Prints the median of each measurement beside its target. Not a test: the
  * numbers depend on the machine and on whatever else it is running, so the
  * spread (p10–p90 of the batches) and the CPU time of the process are shown
- * too. If R is installed, R's chisq.test(simulate.p.value = TRUE, B = 10000)
- * is timed on the same table for comparison.
+ * too. Each Monte Carlo line names the sampler monteCarloPValue chose for the
+ * table, and the next line times the other sampler on it, forced, for
+ * comparison. If R is installed, R's chisq.test(simulate.p.value = TRUE,
+ * B = 10000) is timed on the same table as well.
  */
 import { spawnSync } from "node:child_process";
 import { analyzeTable, exactPValue, monteCarloPValue } from "@/lib/stats";
+import { chooseTableSampler, monteCarloPValueBy, type TableSamplerMethod } from "@/lib/stats/monte-carlo";
 
 interface Summary {
   median: number;
@@ -75,15 +78,18 @@ function benchAnalyze(table: number[][]): Summary {
   return summarize(samples);
 }
 
-function benchMonteCarlo(table: number[][], runs: number): { wall: Summary; cpu: Summary; pValue: number } {
-  monteCarloPValue(table, { replicates: 2000, seed: 99 }); // warm-up
+/** monteCarloPValue as callers get it, or with one sampler forced (for comparison). */
+function benchMonteCarlo(table: number[][], runs: number, method?: TableSamplerMethod): { wall: Summary; cpu: Summary; pValue: number } {
+  const run = (options: { replicates: number; seed: number }) =>
+    method === undefined ? monteCarloPValue(table, options) : monteCarloPValueBy(table, options, method);
+  run({ replicates: 2000, seed: 99 }); // warm-up
   const wall: number[] = [];
   const cpu: number[] = [];
   let pValue = Number.NaN;
   for (let r = 0; r < runs; r++) {
     const c0 = process.cpuUsage();
     const t0 = performance.now();
-    pValue = monteCarloPValue(table, { replicates: 10_000, seed: r + 1 }).pValue;
+    pValue = run({ replicates: 10_000, seed: r + 1 }).pValue;
     wall.push(performance.now() - t0);
     const c = process.cpuUsage(c0);
     cpu.push((c.user + c.system) / 1000);
@@ -131,7 +137,12 @@ for (const [label, table] of [
   ["flat categories", flat],
 ] as const) {
   const mc = benchMonteCarlo(table, 7);
-  console.log(line(`monteCarloPValue 10,000 replicates, 20×40 ${label} (n = ${total(table)})`, "ms", mc.wall, 150, `; CPU median ${fmt(mc.cpu.median)} ms`));
+  const rows = table.map((row) => row.reduce((a, b) => a + b, 0));
+  const columns = table[0].map((_, j) => table.reduce((a, row) => a + row[j], 0));
+  const chosen = chooseTableSampler(rows, columns);
+  console.log(line(`monteCarloPValue 10,000 replicates, 20×40 ${label} (n = ${total(table)})`, "ms", mc.wall, 150, `; CPU median ${fmt(mc.cpu.median)} ms; ${chosen} sampler`));
+  const other = benchMonteCarlo(table, 3, chosen === "permutation" ? "patefield" : "permutation");
+  console.log(`${"".padEnd(58)} the same with the ${chosen === "permutation" ? "Patefield" : "permutation"} sampler forced: median ${fmt(other.wall.median)} ms, CPU median ${fmt(other.cpu.median)} ms (3 runs)`);
   console.log(`${"".padEnd(58)} R chisq.test(simulate.p.value = TRUE, B = 10000) on the same table: ${timeR(table)}`);
 }
 console.log(line(`exactPValue, 3×4 (n = ${total(small)})`, "ms", benchExact(small), 5, "", ));

@@ -4,6 +4,10 @@ import { xoroshiro128plus } from "pure-rand/generator/xoroshiro128plus";
 import { skipN } from "pure-rand/utils/skipN";
 import { describe, expect, it } from "vitest";
 import * as stats from "@/lib/stats";
+// Modules with exports beyond the index (internal to lib/stats, examples all the same).
+import * as monteCarlo from "@/lib/stats/monte-carlo";
+import * as patefield from "@/lib/stats/patefield";
+import * as permutationSampler from "@/lib/stats/permutation-sampler";
 
 // Every @example in lib/stats ends in `expression; // value`; this runs each one
 // and checks the value, so the documentation cannot drift from the code.
@@ -35,7 +39,7 @@ function examples(): Example[] {
 }
 
 function evaluate(example: Example): unknown {
-  const scope: Record<string, unknown> = { ...stats, xoroshiro128plus, skipN };
+  const scope: Record<string, unknown> = { ...monteCarlo, ...patefield, ...permutationSampler, ...stats, xoroshiro128plus, skipN };
   const names = Object.keys(scope);
   const run = new Function(...names, `${example.setup.join("\n")}\nreturn (${example.expression});`);
   return run(...names.map((n) => scope[n]));

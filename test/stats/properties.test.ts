@@ -1,6 +1,7 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { adjustPValues, analyzeTable, exactPValue, monteCarloPValue } from "@/lib/stats";
+import { chooseTableSampler, monteCarloPValueBy, type TableSamplerMethod } from "@/lib/stats/monte-carlo";
 import { bruteForceChiSquarePValue, bruteForceProbabilityPValue } from "./enumerate";
 
 // Tables of counts with no all-zero row or column.
@@ -108,17 +109,32 @@ describe("exact and Monte Carlo p-values against brute-force enumeration", () =>
     );
   });
 
-  it("Monte Carlo p-values agree with the exact X²-ordered p-value within 4 standard errors", () => {
-    // Exact here means the same conditional test ordered by X², enumerated in full
-    // (see enumerate.ts); the FFH test orders by probability, a different statistic.
+  it.each<TableSamplerMethod>(["patefield", "permutation"])(
+    "Monte Carlo p-values by the %s sampler agree with the exact X²-ordered p-value within 4 standard errors",
+    (method) => {
+      // Exact here means the same conditional test ordered by X², enumerated in full
+      // (see enumerate.ts); the FFH test orders by probability, a different statistic.
+      fc.assert(
+        fc.property(tableArbitrary(3, 3, 3), fc.integer({ min: 1, max: 1_000_000 }), (table, seed) => {
+          const exact = bruteForceChiSquarePValue(table);
+          const mc = monteCarloPValueBy(table, { replicates: 4000, seed }, method);
+          // The estimator is (1 + hits)/(B + 1); its bias, below 1/(B + 1), is allowed for.
+          expect(Math.abs(mc.pValue - exact)).toBeLessThanOrEqual(4 * mc.standardError + 1 / 4001);
+        }),
+        { numRuns: 40 },
+      );
+    },
+  );
+
+  it("monteCarloPValue is monteCarloPValueBy with the sampler chooseTableSampler picks", () => {
     fc.assert(
-      fc.property(tableArbitrary(3, 3, 3), fc.integer({ min: 1, max: 1_000_000 }), (table, seed) => {
-        const exact = bruteForceChiSquarePValue(table);
-        const mc = monteCarloPValue(table, { replicates: 4000, seed });
-        // The estimator is (1 + hits)/(B + 1); its bias, below 1/(B + 1), is allowed for.
-        expect(Math.abs(mc.pValue - exact)).toBeLessThanOrEqual(4 * mc.standardError + 1 / 4001);
+      fc.property(tableArbitrary(4, 5, 30), fc.integer({ min: 1, max: 1_000_000 }), (table, seed) => {
+        const rows = table.map((row) => row.reduce((a, b) => a + b, 0));
+        const columns = table[0].map((_, j) => table.reduce((a, row) => a + row[j], 0));
+        const method = chooseTableSampler(rows, columns);
+        expect(monteCarloPValue(table, { replicates: 300, seed })).toEqual(monteCarloPValueBy(table, { replicates: 300, seed }, method));
       }),
-      { numRuns: 40 },
+      { numRuns: 30 },
     );
   });
 });
