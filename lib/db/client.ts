@@ -2,6 +2,7 @@ import { PrismaBetterSqlite3 } from "@prisma/adapter-better-sqlite3";
 import Database from "better-sqlite3";
 import { mkdirSync } from "node:fs";
 import path from "node:path";
+import { markDatabaseTrouble } from "./errors";
 import { PrismaClient } from "./generated/client";
 import { databaseFile, databaseUrl } from "./url";
 
@@ -25,11 +26,65 @@ export function readonlyRequested(): boolean {
   return process.env.LINEMIX_DB_READONLY === "1";
 }
 
+/**
+ * Per-connection settings, the same on Prisma's connection and the raw one. Pragmas hold
+ * for one connection only, and the driver adapter opens its own better-sqlite3
+ * connection, so they are run on each. Without this the adapter's connection had
+ * synchronous=NORMAL (better-sqlite3 builds with SQLITE_DEFAULT_WAL_SYNCHRONOUS=1) and
+ * relied on the build default for foreign keys (test/db/prisma-connection.test.ts).
+ */
+function connectionPragmas(readonly: boolean): string[] {
+  return [
+    ...(readonly ? [] : ["journal_mode = WAL"]),
+    "foreign_keys = ON",
+    `busy_timeout = ${BUSY_TIMEOUT_MS}`,
+    // FULL: an acknowledged tally survives a power cut, not only a process crash (≈1.6 ms per commit here).
+    "synchronous = FULL",
+  ];
+}
+
+/** The driver adapter's factory, running connectionPragmas on every connection it opens. */
+class LinemixSqliteAdapter extends PrismaBetterSqlite3 {
+  readonly #pragmas: string;
+  constructor(url: string, readonly: boolean) {
+    super({ url, timeout: BUSY_TIMEOUT_MS, ...(readonly ? { readonly: true, fileMustExist: true } : {}) });
+    this.#pragmas = connectionPragmas(readonly)
+      .map((p) => `PRAGMA ${p};`)
+      .join("\n");
+  }
+  override async connect() {
+    const adapter = await super.connect();
+    await adapter.executeScript(this.#pragmas);
+    return adapter;
+  }
+}
+
+/**
+ * The client with one query extension: an error that is a database condition (full,
+ * read-only, busy…; lib/db/errors.ts) gets a digest naming the condition before it
+ * leaves, so that a page failing on it can say so plainly in app/error.tsx even in
+ * production, where Next passes error pages the digest but not the message.
+ */
+function prismaClient(url: string, readonly: boolean): PrismaClient {
+  const base = new PrismaClient({ adapter: new LinemixSqliteAdapter(url, readonly) });
+  const marked = base.$extends({
+    query: {
+      async $allOperations({ args, query }) {
+        try {
+          return await query(args);
+        } catch (error) {
+          throw markDatabaseTrouble(error);
+        }
+      },
+    },
+  });
+  // A query-only extension changes no method's type; the rest of the code keeps the base type.
+  return marked as unknown as PrismaClient;
+}
+
 function open(url: string, readonly: boolean): Handles {
   if (!readonly) mkdirSync(path.dirname(databaseFile(url)), { recursive: true });
-  const prisma = new PrismaClient({
-    adapter: new PrismaBetterSqlite3({ url, timeout: BUSY_TIMEOUT_MS, ...(readonly ? { readonly: true, fileMustExist: true } : {}) }),
-  });
+  const prisma = prismaClient(url, readonly);
   const sqlite = openSqlite(url, readonly ? { readonly: true, fileMustExist: true } : {});
   return { prisma, sqlite, url, readonly };
 }
@@ -41,11 +96,7 @@ function open(url: string, readonly: boolean): Handles {
  */
 export function openSqlite(url = databaseUrl(), options: Database.Options = {}): Database.Database {
   const db = new Database(databaseFile(url), { timeout: BUSY_TIMEOUT_MS, ...options });
-  if (!options.readonly) db.pragma("journal_mode = WAL");
-  db.pragma("foreign_keys = ON");
-  db.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
-  // FULL: an acknowledged tally survives a power cut, not only a process crash (≈1.6 ms per commit here).
-  db.pragma("synchronous = FULL");
+  for (const pragma of connectionPragmas(options.readonly ?? false)) db.pragma(pragma);
   return db;
 }
 

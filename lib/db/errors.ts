@@ -118,3 +118,52 @@ export function describeTroubleForLog(trouble: DatabaseTrouble, where: string): 
 export function ignoreDatabaseTrouble(error: unknown): void {
   if (!databaseTrouble(error)) throw error;
 }
+
+/** Digests of database-condition errors start so: `linemix-db-<kind>-<reference>`. */
+export const TROUBLE_DIGEST_PREFIX = "linemix-db-";
+
+const KINDS: readonly DatabaseTroubleKind[] = ["full", "read-only", "busy", "io", "corrupt", "unavailable"];
+
+function shortReference(): string {
+  return globalThis.crypto.randomUUID().slice(0, 8);
+}
+
+/**
+ * Gives a database-condition error a digest naming the condition (Next keeps a digest an
+ * error already has, and it is the one thing of a server error that reaches app/error.tsx
+ * in production). Anything else is returned untouched. Called by the Prisma client's
+ * query extension (lib/db/client.ts).
+ *
+ * @example
+ * markDatabaseTrouble({ code: "SQLITE_FULL" }).digest; // "linemix-db-full-3f2a9c1e" (random reference)
+ */
+export function markDatabaseTrouble<E>(error: E): E {
+  const trouble = databaseTrouble(error);
+  if (trouble && error && typeof error === "object") {
+    const e = error as { digest?: unknown };
+    if (typeof e.digest !== "string") {
+      try {
+        e.digest = `${TROUBLE_DIGEST_PREFIX}${trouble.kind}-${shortReference()}`;
+      } catch {
+        // A frozen error object: the page shows the generic message, nothing worse.
+      }
+    }
+  }
+  return error;
+}
+
+/**
+ * The plain message for a digest made by markDatabaseTrouble, or null for any other digest.
+ * Safe in the browser (no imports): app/error.tsx calls it.
+ *
+ * @example
+ * troubleFromDigest("linemix-db-read-only-3f2a9c1e")?.kind; // "read-only"
+ * troubleFromDigest("2481116385"); // null
+ */
+export function troubleFromDigest(digest: string | undefined | null): { kind: DatabaseTroubleKind; message: string; reference: string } | null {
+  if (typeof digest !== "string" || !digest.startsWith(TROUBLE_DIGEST_PREFIX)) return null;
+  const rest = digest.slice(TROUBLE_DIGEST_PREFIX.length);
+  const kind = KINDS.find((k) => rest.startsWith(`${k}-`));
+  if (!kind) return null;
+  return { kind, message: MESSAGES[kind].message, reference: rest.slice(kind.length + 1) };
+}
