@@ -1,5 +1,5 @@
 import { NextResponse, type NextRequest } from "next/server";
-import { NONCE_HEADER, PATH_HEADER, SESSION_COOKIE, isPublicPath } from "@/lib/auth/constants";
+import { NONCE_HEADER, PATH_HEADER, SESSION_COOKIE, acceptsBearerToken, hasBearerToken, isPublicPath } from "@/lib/auth/constants";
 import { STATIC_SECURITY_HEADERS, contentSecurityPolicy, newNonce } from "@/lib/http/security-headers";
 
 /**
@@ -8,7 +8,9 @@ import { STATIC_SECURITY_HEADERS, contentSecurityPolicy, newNonce } from "@/lib/
  *    presence check only, to save a render: the real check (token, expiry, role) is in
  *    the guards of lib/auth/guard.ts, which every page, action and route handler calls;
  *  - a per-request CSP nonce and the security headers.
- * API routes are not redirected: their handlers answer 401/403 as JSON.
+ * API routes are not redirected: their handlers answer 401/403 as JSON. Nor is a request
+ * with a bearer token to a download that checks tokens itself (TOKEN_ROUTE_PATTERNS in
+ * lib/auth/constants.ts), so a script with an API token can fetch a flagged period's export.
  */
 export function proxy(request: NextRequest) {
   const { pathname, search } = request.nextUrl;
@@ -18,8 +20,9 @@ export function proxy(request: NextRequest) {
 
   const isApi = pathname === "/api" || pathname.startsWith("/api/");
   const isRead = request.method === "GET" || request.method === "HEAD";
+  const tokenRoute = hasBearerToken(request.headers.get("authorization")) && acceptsBearerToken(pathname);
   let response: NextResponse;
-  if (!isApi && isRead && !isPublicPath(pathname) && !request.cookies.has(SESSION_COOKIE)) {
+  if (!isApi && isRead && !tokenRoute && !isPublicPath(pathname) && !request.cookies.has(SESSION_COOKIE)) {
     const target = new URL("/signin", request.url);
     if (pathname !== "/") target.searchParams.set("next", pathname + search);
     response = NextResponse.redirect(target, 307);

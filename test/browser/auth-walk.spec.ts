@@ -256,6 +256,42 @@ test("API tokens: a tallies:write token reaches only tallies routes; a revoked t
   expect(problems, problems.join("\n")).toEqual([]);
 });
 
+test("API tokens: an analysis:read token downloads flagged periods' exports, and still opens no page", async ({ browser, baseURL, playwright }) => {
+  const admin = await principalPage(browser, "admin", baseURL!);
+  await admin.goto("/admin/tokens");
+  await admin.getByLabel("Name (what uses it)").fill("walk report job");
+  await admin.getByRole("checkbox", { name: /analysis:read/ }).check();
+  await admin.getByRole("button", { name: "Create token" }).click();
+  const token = (await admin.getByTestId("new-token").textContent())!.trim();
+  const machine = await playwright.request.newContext({ baseURL });
+  const bearer = { authorization: `Bearer ${token}` };
+
+  const list = await machine.get("/episodes/export/json", { headers: bearer, maxRedirects: 0 });
+  expect(list.status()).toBe(200);
+  const { episodes } = (await list.json()) as { episodes: { id: number }[] };
+  expect(episodes.length).toBeGreaterThan(0);
+  for (const format of ["csv", "json", "pdf"]) {
+    const r = await machine.get(`/episodes/${episodes[0].id}/export/${format}`, { headers: bearer, maxRedirects: 0 });
+    expect(r.status(), format).toBe(200);
+    expect(r.headers()["content-disposition"]).toContain(`linemix-episode-${episodes[0].id}.${format}`);
+  }
+  // The same token is no session: the flagged period's page still sends it to sign-in.
+  const pageResponse = await machine.get(`/episodes/${episodes[0].id}`, { headers: bearer, maxRedirects: 0 });
+  expect(pageResponse.status()).toBe(307);
+  // Without the token the download is sent to sign-in as before.
+  const anonymous = await machine.get(`/episodes/${episodes[0].id}/export/csv`, { maxRedirects: 0 });
+  expect(anonymous.status()).toBe(307);
+
+  await admin.reload();
+  admin.once("dialog", (d) => d.accept());
+  await admin.getByRole("row", { name: /walk report job/ }).getByRole("button", { name: "Revoke" }).click();
+  await expect(admin.getByRole("row", { name: /walk report job/ })).toContainText("Revoked");
+  const afterRevoke = await machine.get(`/episodes/${episodes[0].id}/export/csv`, { headers: bearer, maxRedirects: 0 });
+  expect(afterRevoke.status()).toBe(401);
+  await machine.dispose();
+  await admin.context().close();
+});
+
 test("a cross-site post to an admin action is refused even with an admin session", async ({ browser, baseURL }) => {
   const admin = await principalPage(browser, "admin", baseURL!);
   const before = await admin.request.get("/admin/users");
