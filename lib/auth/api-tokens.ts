@@ -20,17 +20,20 @@ export function parseScopes(stored: string): ApiScope[] {
     .filter(isApiScope);
 }
 
+type TokenClient = Pick<ReturnType<typeof db>, "apiToken">;
+
 export async function createApiToken(
   name: string,
   scopes: ApiScope[],
   createdById: number,
   now = new Date(),
+  client: TokenClient = db(),
 ): Promise<{ id: number; token: string; prefix: string }> {
   const unique = [...new Set(scopes)].filter(isApiScope).sort((a, b) => API_SCOPES.indexOf(a) - API_SCOPES.indexOf(b));
   if (unique.length === 0) throw new Error("A token needs at least one scope.");
   const token = TOKEN_PREFIX + randomToken();
   const prefix = token.slice(0, TOKEN_PREFIX.length + 6);
-  const row = await db().apiToken.create({
+  const row = await client.apiToken.create({
     data: { name, prefix, tokenHash: sha256(token), scopes: unique.join(","), createdById, createdAt: now },
   });
   return { id: row.id, token, prefix };
@@ -58,12 +61,15 @@ export async function verifyApiToken(token: string, scope: ApiScope, now = new D
   return { ok: true, principal: { kind: "token", tokenId: row.id, name: row.name, scopes } };
 }
 
-export async function revokeApiToken(id: number, now = new Date()): Promise<boolean> {
-  const result = await db().apiToken.updateMany({ where: { id, revokedAt: null }, data: { revokedAt: now } });
+export async function revokeApiToken(id: number, now = new Date(), client: TokenClient = db()): Promise<boolean> {
+  const result = await client.apiToken.updateMany({ where: { id, revokedAt: null }, data: { revokedAt: now } });
   return result.count > 0;
 }
 
-/** Admin operations with their AuditEvent. */
+/**
+ * Admin operations with their AuditEvent, each in one transaction: a database that is
+ * full or read-only half-way leaves neither a token without its audit entry nor the reverse.
+ */
 export async function issueApiToken(
   actor: { id: number; name: string },
   name: string,
@@ -72,16 +78,19 @@ export async function issueApiToken(
   const clean = name.trim();
   if (clean.length < 2 || clean.length > 80) return { ok: false, error: "A token name is 2-80 characters." };
   if (scopes.filter(isApiScope).length === 0) return { ok: false, error: "Choose at least one scope." };
-  const created = await createApiToken(clean, scopes, actor.id);
-  await db().auditEvent.create({
-    data: {
-      actorId: actor.id,
-      actorName: actor.name,
-      action: "token.create",
-      entity: "api-token",
-      entityId: String(created.id),
-      after: JSON.stringify({ name: clean, prefix: created.prefix, scopes }),
-    },
+  const created = await db().$transaction(async (tx) => {
+    const made = await createApiToken(clean, scopes, actor.id, new Date(), tx);
+    await tx.auditEvent.create({
+      data: {
+        actorId: actor.id,
+        actorName: actor.name,
+        action: "token.create",
+        entity: "api-token",
+        entityId: String(made.id),
+        after: JSON.stringify({ name: clean, prefix: made.prefix, scopes }),
+      },
+    });
+    return made;
   });
   return { ok: true, ...created };
 }
@@ -89,16 +98,20 @@ export async function issueApiToken(
 export async function withdrawApiToken(actor: { id: number; name: string }, id: number): Promise<{ ok: true } | { ok: false; error: string }> {
   const row = await db().apiToken.findUnique({ where: { id } });
   if (!row) return { ok: false, error: "No such token." };
-  if (!(await revokeApiToken(id))) return { ok: false, error: "That token was already revoked." };
-  await db().auditEvent.create({
-    data: {
-      actorId: actor.id,
-      actorName: actor.name,
-      action: "token.revoke",
-      entity: "api-token",
-      entityId: String(id),
-      before: JSON.stringify({ name: row.name, prefix: row.prefix, scopes: row.scopes }),
-    },
+  const revoked = await db().$transaction(async (tx) => {
+    if (!(await revokeApiToken(id, new Date(), tx))) return false;
+    await tx.auditEvent.create({
+      data: {
+        actorId: actor.id,
+        actorName: actor.name,
+        action: "token.revoke",
+        entity: "api-token",
+        entityId: String(id),
+        before: JSON.stringify({ name: row.name, prefix: row.prefix, scopes: row.scopes }),
+      },
+    });
+    return true;
   });
+  if (!revoked) return { ok: false, error: "That token was already revoked." };
   return { ok: true };
 }

@@ -6,24 +6,21 @@ import type { Actor } from "@/lib/auth/audit";
 import { requireActionUser } from "@/lib/auth/guard";
 import { ROLES } from "@/lib/auth/roles";
 import { createUser, resetPassword, setActive, setBadge, setRole, type UserResult } from "@/lib/auth/users";
-import { authFailure, validationFailure, type ActionResult } from "@/lib/http/action-result";
+import { actionOutcome, validationFailure, type ActionResult } from "@/lib/http/action-result";
 
 type Result = ActionResult<{ secret?: string }>;
 
-/** Every action here: admin only, checked on the server, whatever the page showed. */
+/**
+ * Every action here: admin only, checked on the server, whatever the page showed; a
+ * full, read-only or busy database comes back as the form's message (actionOutcome).
+ */
 async function asAdmin(run: (actor: Actor) => Promise<Result>): Promise<Result> {
-  let actor: Actor;
-  try {
+  return actionOutcome("admin: users", async () => {
     const me = await requireActionUser("admin");
-    actor = { id: me.userId, name: me.username };
-  } catch (error) {
-    const refused = authFailure(error);
-    if (refused) return refused;
-    throw error;
-  }
-  const result = await run(actor);
-  if (result.ok) revalidatePath("/admin/users", "layout");
-  return result;
+    const result = await run({ id: me.userId, name: me.username });
+    if (result.ok) revalidatePath("/admin/users", "layout");
+    return result;
+  });
 }
 
 const toResult = (r: UserResult): Result => (r.ok ? { ok: true, message: r.message } : { ok: false, status: 400, error: r.error });

@@ -3,7 +3,7 @@
 import { revalidatePath } from "next/cache";
 import { redirect } from "next/navigation";
 import { requireActionUser } from "@/lib/auth/guard";
-import { authFailure, type ActionResult } from "@/lib/http/action-result";
+import { authFailure, databaseFailure, type ActionResult } from "@/lib/http/action-result";
 import { actorFromPrincipal } from "@/lib/intake/actor";
 import { correctEntry } from "@/lib/intake/corrections";
 import { formatFieldProblem } from "@/lib/intake/schemas";
@@ -18,13 +18,21 @@ export async function correctEntryAction(_prev: ActionResult, form: FormData): P
     if (refused) return refused;
     throw error;
   }
-  const outcome = correctEntry(actor, {
-    idempotencyKey: form.get("idempotencyKey"),
-    kind: form.get("kind"),
-    entryId: form.get("entryId"),
-    value: form.get("value"),
-    reason: form.get("reason") ?? "",
-  });
+  let outcome: ReturnType<typeof correctEntry>;
+  try {
+    outcome = correctEntry(actor, {
+      idempotencyKey: form.get("idempotencyKey"),
+      kind: form.get("kind"),
+      entryId: form.get("entryId"),
+      value: form.get("value"),
+      reason: form.get("reason") ?? "",
+    });
+  } catch (error) {
+    // Full, read-only or busy: one transaction, so nothing of the correction was stored.
+    const trouble = databaseFailure(error, "correction");
+    if (trouble) return trouble;
+    throw error;
+  }
   switch (outcome.status) {
     case "created": {
       revalidatePath("/entry", "layout");
