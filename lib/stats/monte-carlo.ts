@@ -10,22 +10,42 @@ import { validateTable } from "./validate-table";
 
 /** Options of {@link monteCarloPValue}. */
 export interface MonteCarloOptions {
-  /** Number of simulated tables B (default 10,000; at most 10⁸). */
+  /** Number of simulated tables B, or the cap N on them with stopAfterHits (default 10,000; at most 10⁸). */
   replicates?: number;
   /** Seed of the xoroshiro128+ generator (default 1); used as a 32-bit integer. */
   seed?: number;
+  /**
+   * Sequential stopping (Besag & Clifford 1991): stop at the draw L that brings
+   * the count of tables at least as extreme as the observed one to h, and
+   * report p = h/L. A whole number from 1 to `replicates`; undefined (the
+   * default) draws all `replicates` tables.
+   */
+  stopAfterHits?: number;
 }
 
 /** Result of {@link monteCarloPValue}. */
 export interface MonteCarloResult {
-  /** (1 + hits)/(B + 1). Never 0: the observed table counts as one of the B + 1. */
+  /**
+   * h/L when stopped at the h-th hit on draw L, else (1 + hits)/(B + 1).
+   * Never 0: in the second case the observed table counts as one of the B + 1.
+   */
   pValue: number;
-  /** √(p(1 − p)/B) with p = pValue: the binomial standard error of the estimate. */
+  /**
+   * Binomial √(p(1 − p)/B) for a full run; p·√((1 − p)/h) when stopped at the
+   * h-th hit (the delta-method standard error of h/L for negative binomial L;
+   * derived at sequentialStandardError). p = pValue in both.
+   */
   standardError: number;
-  /** B, the number of simulated tables. */
+  /** Tables actually drawn: L when stopped, else B. */
   replicates: number;
-  /** Simulated tables with X² at least the observed X² (up to rounding). */
+  /** Simulated tables with X² at least the observed X² (up to rounding), among those drawn. */
   hits: number;
+  /** True when the h-th hit came before or on the last allowed draw (p = h/L); false for a full run. */
+  stoppedEarly: boolean;
+  /** h of stopAfterHits, or null when sequential stopping was not asked for. */
+  stopAfterHits: number | null;
+  /** The cap B (= replicates for a full run). */
+  maxReplicates: number;
   /** Observed Pearson X². */
   statistic: number;
   /** Seed used, as the 32-bit integer the generator saw. */
@@ -34,14 +54,40 @@ export interface MonteCarloResult {
 
 const EPSILON = 2 ** -52;
 
-function checkOptions(options: MonteCarloOptions): { replicates: number; seed: number } {
+function checkOptions(options: MonteCarloOptions): { replicates: number; seed: number; stopAfterHits: number | null } {
   const replicates = options.replicates ?? 10_000;
   const seed = options.seed ?? 1;
+  const stopAfterHits = options.stopAfterHits ?? null;
   if (!Number.isInteger(replicates) || replicates < 1 || replicates > 1e8) {
     throw new RangeError(`replicates must be a whole number from 1 to 100,000,000 (got ${replicates})`);
   }
   if (!Number.isSafeInteger(seed)) throw new RangeError(`seed must be an integer (got ${seed})`);
-  return { replicates, seed: seed | 0 };
+  if (stopAfterHits !== null && (!Number.isInteger(stopAfterHits) || stopAfterHits < 1 || stopAfterHits > replicates)) {
+    throw new RangeError(`stopAfterHits must be a whole number from 1 to replicates (${replicates}) (got ${stopAfterHits})`);
+  }
+  return { replicates, seed: seed | 0, stopAfterHits };
+}
+
+/**
+ * Standard error of the sequential p-value h/L, where L is the draw that gave
+ * the h-th hit, evaluated at p = h/L.
+ *
+ * Derivation (delta method): each draw is a hit with probability p, so L is
+ * negative binomial with E[L] = h/p and Var[L] = h(1 − p)/p². With g(L) = h/L,
+ * g′(E[L]) = −h/E[L]² = −p²/h, so Var[h/L] ≈ (p²/h)² · h(1 − p)/p²
+ * = p²(1 − p)/h, and SE ≈ p·√((1 − p)/h): a relative error of about 1/√h
+ * whatever p is. The same variance is Haldane's for inverse binomial sampling
+ * (Biometrika 33:222–225, 1945; from memory). It is 0 at p = 1 (every draw a
+ * hit), where the approximation says nothing useful.
+ *
+ * Cost: O(1).
+ *
+ * @example
+ * sequentialStandardError(100, 2000); // 0.004873397172404482
+ */
+export function sequentialStandardError(hits: number, drawn: number): number {
+  const p = hits / drawn;
+  return p * Math.sqrt((1 - p) / hits);
 }
 
 // Σ O²/E = X² + n. The sampler sums the same terms in its own cell order, so a
@@ -117,9 +163,19 @@ export function chooseTableSampler(rowTotals: readonly number[], columnTotals: r
  * with `seed`, so a seed reproduces the result exactly.
  * standardError = √(p(1 − p)/B).
  *
+ * Sequential stopping (`stopAfterHits: h`; Besag & Clifford 1991, "Sequential
+ * Monte Carlo p-values", Biometrika 78:301–304): the same draws in the same
+ * order, stopped at the draw L that brings the hits to h; then p = h/L and
+ * standardError = p·√((1 − p)/h) (see sequentialStandardError). When fewer
+ * than h of the B draws are hits the result is exactly the full run's,
+ * (1 + hits)/(B + 1). Besag and Clifford show P(p ≤ u) ≤ u under the null
+ * for every u, so the p-value stays valid for a multiple-testing adjustment.
+ * A table with a large p stops after about h/p draws; for p uniform the
+ * expected number is about h(1 + ln(B/h)) (B = 10,000, h = 100: ~560).
+ *
  * Throws a RangeError for an invalid table (see validateTable) or options.
  *
- * Cost: B tables at the cheaper sampler's price: Patefield's at most
+ * Cost: B tables (or L when stopped) at the cheaper sampler's price: Patefield's at most
  * (r−1)(c−1) hypergeometric draws (~50 ns each), the permutation's
  * n − (largest margin total) picks (~3.5 ns each) plus O(r·c). 10,000
  * replicates of a 20×40 table with n ≈ 5,000 (permutation) take about
@@ -127,7 +183,7 @@ export function chooseTableSampler(rowTotals: readonly number[], columnTotals: r
  * or more of Patefield's algorithm (`npm run bench:stats` shows both).
  *
  * @example
- * monteCarloPValue([[3, 1], [1, 3]], { replicates: 10_000, seed: 1 }).pValue; // 0.4928507149285071  (exact: 0.4857, Fisher's tea tasting)
+ * monteCarloPValue([[3, 1], [1, 3]], { replicates: 10_000, seed: 1 }).pValue; // 0.4928507149285071  (exact: 0.4857, Fisher's tea tasting; with stopAfterHits: 100 the same draws stop at the 181st, p = 100/181 = 0.5525)
  */
 export function monteCarloPValue(
   observed: readonly (readonly number[])[],
@@ -148,7 +204,7 @@ export function monteCarloPValueBy(
   options: MonteCarloOptions,
   method: TableSamplerMethod | undefined,
 ): MonteCarloResult {
-  const { replicates, seed } = checkOptions(options);
+  const { replicates, seed, stopAfterHits } = checkOptions(options);
   const { rows, columns, n, rowTotals, columnTotals } = validateTable(observed);
   if (n > LOG_FACTORIAL_TABLE_LIMIT) {
     throw new RangeError(
@@ -172,16 +228,24 @@ export function monteCarloPValueBy(
     (method ?? chooseTableSampler(rowTotals, columnTotals)) === "permutation"
       ? createPermutationTableSampler(rowTotals, columnTotals, samplerOptions)
       : createRandomTableSampler(rowTotals, columnTotals, samplerOptions);
+  // A cap above B never stops the loop: the full run is the sequential one with h = B + 1.
+  const stopAt = stopAfterHits ?? replicates + 1;
   let hits = 0;
-  for (let b = 0; b < replicates; b++) {
-    if (sampler.sample() >= threshold) hits++;
+  let drawn = 0;
+  while (drawn < replicates) {
+    drawn++;
+    if (sampler.sample() >= threshold && ++hits === stopAt) break;
   }
-  const pValue = (1 + hits) / (replicates + 1);
+  const stoppedEarly = hits === stopAt;
+  const pValue = stoppedEarly ? hits / drawn : (1 + hits) / (replicates + 1);
   return {
     pValue,
-    standardError: Math.sqrt((pValue * (1 - pValue)) / replicates),
-    replicates,
+    standardError: stoppedEarly ? sequentialStandardError(hits, drawn) : Math.sqrt((pValue * (1 - pValue)) / replicates),
+    replicates: drawn,
     hits,
+    stoppedEarly,
+    stopAfterHits,
+    maxReplicates: replicates,
     statistic,
     seed,
   };
