@@ -1,5 +1,6 @@
 import PDFDocument from "pdfkit";
 import { heatCell, heatLegend, heatScale } from "@/lib/review/heatmap";
+import { describeMonteCarlo } from "@/lib/review/monte-carlo-note";
 import { formatDay, formatExpected, formatNumber, formatP, formatPercent, formatRange, formatRatio, formatSigned, formatV, minusLog10 } from "@/lib/review/format";
 import { BRIEF_CAUTIONS, type BriefData } from "./brief-data";
 import { pdfText } from "./pdf-text";
@@ -541,7 +542,7 @@ function configuration(b: Brief, data: BriefData): void {
     ["Windows", `${c.windowDays} days, stepping ${c.stepDays} ${c.stepDays === 1 ? "day" : "days"}`],
     ["Flag rule", `adjusted p <= ${c.alpha} (${c.adjust === "bh" ? "Benjamini-Hochberg false discovery rate" : c.adjust === "bonferroni" ? "Bonferroni" : "no adjustment"} across windows)${c.minEffect > 0 ? ` and V >= ${c.minEffect}` : ""}`],
     ["Sparse tables", c.sparse],
-    ["Peak test", peak?.method ? `${peak.method}${peak.monteCarlo ? ` (${peak.monteCarlo.replicates} replicates, seed ${peak.monteCarlo.seed})` : ""}` : "–"],
+    ["Peak test", peak?.method ? (peak.monteCarlo ? describeMonteCarlo(peak.monteCarlo) : peak.method) : "–"],
     ["Driver cells", data.critical !== null ? `|adjusted residual| > ${data.critical.toFixed(2)} (Bonferroni over the table's cells)` : "–"],
   ]);
 }

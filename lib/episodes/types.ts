@@ -1,4 +1,4 @@
-import type { Driver, EpisodeDriver, ExpectedSummary, PooledColumns, TestMethod } from "@/lib/monitor/types";
+import type { Driver, EpisodeDriver, ExpectedSummary, MonteCarloRecord, PooledColumns, TestMethod } from "@/lib/monitor/types";
 
 /**
  * Shapes of the flagged-period records as the pages, exports and snapshots see them.
@@ -56,7 +56,11 @@ export interface WindowAnalysis {
   critical: number | null;
   pooled: PooledColumns | null;
   expectedCounts: ExpectedSummary | null;
-  monteCarlo: { replicates: number; seed: number; standardError: number } | null;
+  /**
+   * How the Monte Carlo p was drawn. Snapshots taken before sequential stopping (a full
+   * 10,000-table run every time) hold replicates, seed and standardError only.
+   */
+  monteCarlo: (Pick<MonteCarloRecord, "replicates" | "seed" | "standardError"> & Partial<MonteCarloRecord>) | null;
 }
 
 /** What was seen: the analysis stored with an episode when raised and at each status change. */

@@ -17,6 +17,7 @@ import {
   rateHomogeneity,
   type TableAnalysis,
 } from "@/lib/stats";
+import type { MonteCarloRecord } from "./types";
 
 export { analyzeTable, chiSquareUpperTail, checkExpectedCounts, cramersVCorrected, type TableAnalysis };
 
@@ -49,13 +50,32 @@ export function exactIfFeasible(table: number[][]): number | null {
 }
 
 /**
- * Monte Carlo p-value (lib/stats monteCarloPValue: Patefield tables, (1 + hits)/(B + 1)).
+ * Monte Carlo p-value (lib/stats monteCarloPValue: random tables with the observed
+ * margins, (1 + hits)/(B + 1)), with sequential stopping when `stopAfterHits` is given
+ * (Besag & Clifford 1991: stopped at the h-th table at least as extreme, p = h/L), in
+ * the shape ScanWindow.monteCarlo stores plus the p-value.
  *
  * @example
- * monteCarlo([[3, 1], [1, 3]], 10_000, 1).pValue; // ≈ 0.486
+ * monteCarlo([[3, 1], [1, 3]], 10_000, 1, 100).replicates; // 181  (p = 100/181 ≈ 0.55)
  */
-export function monteCarlo(table: number[][], replicates: number, seed: number): { pValue: number; standardError: number; replicates: number } {
-  return monteCarloPValue(table, { replicates, seed });
+export function monteCarlo(
+  table: number[][],
+  replicates: number,
+  seed: number,
+  stopAfterHits?: number,
+): MonteCarloRecord & { pValue: number } {
+  const r = monteCarloPValue(table, { replicates, seed, stopAfterHits });
+  return {
+    pValue: r.pValue,
+    replicates: r.replicates,
+    // The caller's seed as given (seedFrom's unsigned 32 bits); the generator sees it | 0.
+    seed,
+    standardError: r.standardError,
+    hits: r.hits,
+    stoppedEarly: r.stoppedEarly,
+    stopAfterHits: r.stopAfterHits,
+    maxReplicates: r.maxReplicates,
+  };
 }
 
 /**

@@ -92,6 +92,27 @@ export interface Driver {
   contribution: number;
 }
 
+/**
+ * How a window's Monte Carlo p-value was drawn (lib/stats monteCarloPValue with sequential
+ * stopping, Besag & Clifford 1991): tables are drawn until `stopAfterHits` of them are at
+ * least as extreme as the observed one or until `maxReplicates`.
+ */
+export interface MonteCarloRecord {
+  /** Tables actually drawn: L when stopped at the h-th hit, else maxReplicates. */
+  replicates: number;
+  seed: number;
+  /** p·√((1 − p)/h) when stopped, else √(p(1 − p)/maxReplicates). */
+  standardError: number;
+  /** Drawn tables with X² at least the observed X² (up to rounding). */
+  hits: number;
+  /** True: stopped at the h-th hit, p = hits/replicates. False: the cap was drawn, p = (1 + hits)/(maxReplicates + 1). */
+  stoppedEarly: boolean;
+  /** h, the hits that end the drawing; null when every table up to the cap is drawn. */
+  stopAfterHits: number | null;
+  /** The cap on tables drawn. */
+  maxReplicates: number;
+}
+
 /** One window of a scan. */
 export interface ScanWindow {
   start: string;
@@ -113,7 +134,7 @@ export interface ScanWindow {
   pValue: number | null;
   method: TestMethod | null;
   /** Monte Carlo details when method is "monte-carlo" (seed = FNV-1a of "compare|start|end"). */
-  monteCarlo: { replicates: number; seed: number; standardError: number } | null;
+  monteCarlo: MonteCarloRecord | null;
   pooled: PooledColumns | null;
   /** Of the window's own table (before any pooling); null when not testable. */
   expectedCounts: ExpectedSummary | null;

@@ -3,6 +3,7 @@ import type { ScanWindow } from "@/lib/monitor/types";
 import type { TableAnalysis } from "@/lib/stats/analyze-table";
 import { formatRange } from "./format";
 import { heatCell, heatLegend, heatScale, type HeatCell } from "./heatmap";
+import { describeMonteCarlo } from "./monte-carlo-note";
 import type { Names } from "./names";
 import { generateReading, type Reading, type ReadingRateSignal } from "./reading";
 
@@ -80,7 +81,8 @@ function methodNote(w: ScanWindow): string {
   if (w.method === "exact") return "Exact test (Fisher–Freeman–Halton): the expected counts failed Cochran's rule.";
   if (w.method === "monte-carlo") {
     const mc = w.monteCarlo;
-    return `Monte Carlo test${mc ? ` (${mc.replicates.toLocaleString("en-GB")} tables, seed ${mc.seed}, standard error ${mc.standardError.toExponential(1)})` : ""}: the expected counts failed Cochran's rule and the table was too large for the exact test.`;
+    const how = mc ? describeMonteCarlo(mc) : "Monte Carlo";
+    return `${how[0].toUpperCase()}${how.slice(1)}. Used because the expected counts failed Cochran's rule and the table was too large for the exact test.`;
   }
   return "Asymptotic chi-square test: the expected counts meet Cochran's rule.";
 }

@@ -14,6 +14,7 @@ let id = 0;
 let text = "";
 let pdf: Buffer;
 let compressed: Buffer;
+let data: Parameters<typeof renderEpisodeBrief>[0];
 beforeAll(async () => {
   ctx = await useTempDatabase();
   seedMasterData();
@@ -29,7 +30,7 @@ beforeAll(async () => {
   const date = view.record.peakStart;
   correctTally(date, PLANT.changeLine, "B", PLANT.changeCategory, plantedCount(date, PLANT.changeLine, "B", PLANT.changeCategory) - 5);
   const fresh = (await loadEpisodeContext(liveSource, id))!;
-  const data = briefDataOf(fresh, "Erin Engineer", new Date("2026-05-01T09:30:00Z"));
+  data = briefDataOf(fresh, "Erin Engineer", new Date("2026-05-01T09:30:00Z"));
   pdf = await renderEpisodeBrief(data, { compress: false });
   compressed = await renderEpisodeBrief(data);
   text = pdfText(pdf);
@@ -96,5 +97,22 @@ describe("the PDF brief", () => {
   it("prints only characters the built-in font has", () => {
     expect(text).not.toMatch(/[−χα≥≤⁻▲▼]/);
     expect(text).not.toContain("?");
+  });
+});
+
+describe("the brief's peak test line for a Monte Carlo peak", () => {
+  const render = async (monteCarlo: NonNullable<typeof data.peak>["monteCarlo"]) =>
+    pdfText(await renderEpisodeBrief({ ...data, peak: { ...data.peak!, method: "monte-carlo", monteCarlo } }, { compress: false }));
+
+  it("names sequential stopping and the count when the drawing stopped at the h-th table", async () => {
+    const text = await render({ replicates: 1234, seed: 42, standardError: 0.0077, hits: 100, stoppedEarly: true, stopAfterHits: 100, maxReplicates: 10_000 });
+    expect(text).toContain("sequential Monte Carlo: stopped after 100 random tables");
+    expect(text).toContain("p = 100/1,234");
+  });
+
+  it("keeps a snapshot from before sequential stopping readable (replicates and seed only)", async () => {
+    const text = await render({ replicates: 10_000, seed: 42, standardError: 0.0006 });
+    expect(text).toContain("Monte Carlo: 10,000 random tables");
+    expect(text).not.toContain("sequential");
   });
 });

@@ -145,3 +145,37 @@ describe("window shaping", () => {
     expect(view.rates[0].dpu).toBeCloseTo(0.059, 12);
   });
 });
+
+describe("the Monte Carlo method note", () => {
+  const observed = [
+    [3, 1, 0],
+    [1, 3, 2],
+    [0, 2, 4],
+  ];
+  const analysis = analyzeTable(observed);
+  const note = (monteCarlo: ScanWindow["monteCarlo"], pValue: number) =>
+    shapeWindow(
+      {
+        comparison: comparison("lines"),
+        window: window("2026-10-20", { method: "monte-carlo", monteCarlo, pValue }),
+        rows: ["P1", "P2", "P3"], columns: ["A", "B", "S"], observed, analysis, critical: 2.77, rates: [], baseline: null,
+      },
+      names,
+    ).stats.methodNote;
+
+  it("says a sequential run stopped after h tables at least as extreme among L drawn, and p = h/L", () => {
+    const text = note({ replicates: 1234, seed: 42, standardError: 0.0077, hits: 100, stoppedEarly: true, stopAfterHits: 100, maxReplicates: 10_000 }, 100 / 1234);
+    expect(text).toBe(
+      "Sequential Monte Carlo: stopped after 100 random tables at least as extreme as the observed one among 1,234 drawn, so p = 100/1,234 " +
+        "(random tables with the window's row and column totals; seed 42, standard error 7.7e-3). " +
+        "Used because the expected counts failed Cochran's rule and the table was too large for the exact test.",
+    );
+  });
+
+  it("gives the full count and p = (1 + hits)/(cap + 1) when the cap was drawn", () => {
+    const text = note({ replicates: 10_000, seed: 42, standardError: 0.0006, hits: 37, stoppedEarly: false, stopAfterHits: 100, maxReplicates: 10_000 }, 38 / 10_001);
+    expect(text).toContain("Monte Carlo: 37 of 10,000 random tables at least as extreme as the observed one, so p = (1 + 37)/10,001");
+    expect(text).toContain("drawing stops early only at 100 such tables; seed 42, standard error 6.0e-4");
+    expect(text).not.toContain("Sequential");
+  });
+});
