@@ -2,6 +2,7 @@
 
 import { useEffect } from "react";
 import { useRouter } from "next/navigation";
+import { SheetChooser } from "@/app/components/forms/sheet-chooser";
 
 /** Key under which a line-side device remembers its line. */
 export const LINE_MEMORY_KEY = "linemix.entry.line";
@@ -17,8 +18,8 @@ type Props = {
 };
 
 /**
- * Line, shift and production date of the sheet, as a plain GET form (works without
- * JavaScript). A tablet remembers the line it was last used for and opens that line.
+ * Line, shift and production date of the floor sheet (the shared SheetChooser). A tablet
+ * remembers the line it was last used for and opens that line.
  */
 export function SheetPicker({ lines, shifts, line, shift, date, now, explicit }: Props) {
   const router = useRouter();
@@ -37,44 +38,25 @@ export function SheetPicker({ lines, shifts, line, shift, date, now, explicit }:
   }, [explicit, line, lines, router]);
 
   return (
-    <form method="get" action="/entry" className="sheet-picker card no-print" aria-label="Choose the sheet">
-      <div className="form-row">
-        <div className="field">
-          <label htmlFor="pick-line">Line</label>
-          <select id="pick-line" name="line" defaultValue={line}>
-            {lines.map((l) => (
-              <option key={l.code} value={l.code}>
-                {l.name} ({l.code})
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="pick-shift">Shift</label>
-          <select id="pick-shift" name="shift" defaultValue={shift}>
-            {shifts.map((s) => (
-              <option key={s.code} value={s.code}>
-                {s.name} {s.startTime}–{s.endTime}
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="pick-date">Production date</label>
-          <input id="pick-date" name="date" type="date" defaultValue={date} required />
-        </div>
-        <div className="field">
-          <button type="submit" className="secondary">
-            Open sheet
-          </button>
-        </div>
-      </div>
-      {now && (
-        <p className="muted picker-now">
-          {now.running ? "Running now" : "Last shift"}: {shifts.find((s) => s.code === now.shift)?.name ?? now.shift} of {now.date}
-          {now.startedYesterday ? " (a shift belongs to the date on which it starts)" : ""}.
-        </p>
-      )}
-    </form>
+    <SheetChooser
+      action="/entry"
+      label="Choose the sheet"
+      idPrefix="pick"
+      lines={lines}
+      shifts={shifts}
+      line={line}
+      shift={shift}
+      date={date}
+      dateRequired
+      submitLabel="Open sheet"
+      footer={
+        now && (
+          <p className="muted picker-now">
+            {now.running ? "Running now" : "Last shift"}: {shifts.find((s) => s.code === now.shift)?.name ?? now.shift} of {now.date}
+            {now.startedYesterday ? " (a shift belongs to the date on which it starts)" : ""}.
+          </p>
+        )
+      }
+    />
   );
 }

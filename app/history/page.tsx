@@ -1,5 +1,7 @@
 import type { Metadata } from "next";
 import Link from "next/link";
+import { SelectField } from "@/app/components/forms/select-field";
+import { SheetChooser } from "@/app/components/forms/sheet-chooser";
 import { requirePageUser } from "@/lib/auth/guard";
 import { SOURCE_LABELS, firstParam } from "@/lib/intake/format";
 import { historyPageData, type HistoryRow } from "@/lib/intake/pages";
@@ -74,49 +76,29 @@ export default async function HistoryPage({ searchParams }: Search) {
           {p}
         </p>
       ))}
-      <form method="get" action="/history" className="card form-row no-print" aria-label="Choose the cell">
-        <div className="field">
-          <label htmlFor="h-date">Production date</label>
-          <input id="h-date" type="date" name="date" defaultValue={data.date ?? ""} required />
-        </div>
-        <div className="field">
-          <label htmlFor="h-shift">Shift</label>
-          <select id="h-shift" name="shift" defaultValue={data.shift?.code}>
-            {data.shifts.map((s) => (
-              <option key={s.code} value={s.code}>
-                {s.name} ({s.code})
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="h-line">Line</label>
-          <select id="h-line" name="line" defaultValue={data.line?.code}>
-            {data.lines.map((l) => (
-              <option key={l.code} value={l.code}>
-                {l.name} ({l.code})
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="h-category">Category</label>
-          <select id="h-category" name="category" defaultValue={data.category?.code ?? ""}>
-            <option value="">All (sheet overview)</option>
-            {data.categories.map((c) => (
-              <option key={c.code} value={c.code}>
-                {c.name}
-                {c.active ? "" : " (retired)"}
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <button type="submit" className="secondary">
-            Show history
-          </button>
-        </div>
-      </form>
+      <SheetChooser
+        action="/history"
+        label="Choose the cell"
+        idPrefix="h"
+        lines={data.lines}
+        shifts={data.shifts}
+        line={data.line?.code}
+        shift={data.shift?.code}
+        date={data.date ?? ""}
+        dateFirst
+        dateRequired
+        submitLabel="Show history"
+        extraFields={
+          <SelectField
+            id="h-category"
+            name="category"
+            label="Category"
+            anyLabel="All (sheet overview)"
+            value={data.category?.code}
+            options={data.categories.map((c) => ({ value: c.code, label: c.active ? c.name : `${c.name} (retired)` }))}
+          />
+        }
+      />
 
       {data.entries && data.category && (
         <>

@@ -144,6 +144,8 @@ test("admin creates an API token, sees it once, it works on an API, and revoking
   await page.getByRole("button", { name: "Create token" }).click();
   const secret = (await page.getByTestId("new-token").textContent())!.trim();
   expect(secret).toMatch(/^lmx_[A-Za-z0-9_-]{43}$/);
+  await expect(page.getByText(/Token "Browser test gateway" created/)).toBeVisible();
+  await page.screenshot({ path: test.info().outputPath("admin-token-created.png"), fullPage: true });
   await page.reload();
   await expect(page.getByText(secret)).toHaveCount(0);
   const row = page.getByRole("row", { name: /Browser test gateway/ });

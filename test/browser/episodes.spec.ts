@@ -111,8 +111,15 @@ test("an engineer reviews the planted episode, notes it and exports it for the m
   expect(text).toContain("CA-2026-041, QN-5521");
   expect(text).toContain("not proof of a cause");
 
-  // Every export is in the history.
+  // Then and now: the period's measures and its driver cells, each with both values.
   await page.reload();
+  const thenNow = page.getByTestId("then-now");
+  await expect(thenNow.getByRole("rowheader", { name: "Flagged period" })).toBeVisible();
+  await expect(thenNow.locator("tr[data-measure]").first()).toBeVisible();
+  await expect(thenNow.getByRole("table", { name: "Driver cells, and any cell whose count changed" }).locator("tr[data-cell]").first()).toContainText("obs.");
+  await page.screenshot({ path: test.info().outputPath("episode-detail.png"), fullPage: true });
+
+  // Every export is in the history.
   const history = page.locator("section[aria-labelledby='history-heading']");
   await expect(history.getByText("exported as CSV")).toBeVisible();
   await expect(history.getByText("exported as JSON")).toBeVisible();
@@ -127,6 +134,9 @@ test("the list filters and exports what it shows", async ({ page }) => {
   await page.getByRole("button", { name: "Show" }).click();
   await expect(page).toHaveURL(/line=P3/);
   await expect(page.locator("tr[data-episode]").first()).toBeVisible();
+  await expect(page.getByLabel("Line", { exact: true })).toHaveValue("P3");
+  await expect(page.getByLabel("Status", { exact: true })).toHaveValue("");
+  await page.screenshot({ path: test.info().outputPath("episode-list-filtered.png"), fullPage: true });
   const [d] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download CSV" }).click()]);
   const rows = (await fileOf(d)).toString("utf8").trim().split("\r\n").slice(1);
   expect(rows.length).toBeGreaterThan(0);

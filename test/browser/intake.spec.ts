@@ -150,6 +150,11 @@ test("an engineer imports a file with one bad row and reads the line-numbered me
 test("an engineer corrects an entry and sees who changed what, when and why in the cell history", async ({ page }) => {
   await signIn(page, "engineer", "/entry/corrections?date=2020-01-06&shift=EARLY&line=P1");
   await expect(page.getByRole("heading", { level: 1, name: "Corrections" })).toBeVisible();
+  // The shared sheet picker keeps the chosen sheet.
+  const picker = page.getByRole("form", { name: "Choose the sheet" });
+  await expect(picker.getByLabel("Line")).toHaveValue("P1");
+  await expect(picker.getByLabel("Shift")).toHaveValue("EARLY");
+  await expect(picker.getByLabel("Production date")).toHaveValue("2020-01-06");
   const row = page.getByRole("row").filter({ hasText: "Flash" }).first();
   await row.getByLabel("New value").fill("5");
   await row.getByLabel("Reason").fill("recounted the reject bin");
@@ -164,6 +169,10 @@ test("an engineer corrects an entry and sees who changed what, when and why in t
   await expect(history.nth(1)).toContainText("Demo Engineer");
   await expect(history.nth(1)).toContainText("recounted the reject bin");
   await expect(history.nth(1)).toContainText("current");
+  const cell = page.getByRole("form", { name: "Choose the cell" });
+  await expect(cell.getByLabel("Category")).toHaveValue("flash");
+  await expect(cell.getByLabel("Shift")).toHaveValue("EARLY");
+  await page.screenshot({ path: test.info().outputPath("cell-history.png"), fullPage: true });
 });
 
 test("an admin adds a defect category and retires it; the floor sheet follows", async ({ page }) => {
@@ -184,4 +193,20 @@ test("an admin adds a defect category and retires it; the floor sheet follows", 
   await expect(countField(page, "Gate vestige")).toHaveCount(0);
   await page.goto("/setup");
   await expect(page.getByRole("table")).toContainText("category.retire");
+});
+
+test("an admin cannot add a shift that overlaps another; the form says which and where", async ({ page }) => {
+  await signIn(page, "admin", "/setup/shift");
+  const add = page.getByRole("form", { name: "Add a shift" });
+  await add.getByLabel("Code").fill("SWING");
+  await add.getByLabel("Name").fill("Swing");
+  await add.getByLabel("Starts").fill("18:00");
+  await add.getByLabel("Ends").fill("02:00");
+  await add.getByRole("button", { name: "Add shift" }).click();
+  await expect(add.getByRole("alert")).toHaveText(
+    "Shift SWING (18:00–02:00) would overlap shift LATE (14:00–22:00) from 18:00 to 22:00. Shifts must not overlap: each minute of the day belongs to one shift. Change the clock times, or retire LATE first.",
+  );
+  await page.screenshot({ path: test.info().outputPath("setup-shift-overlap.png"), fullPage: true });
+  await page.reload();
+  await expect(page.getByText("SWING")).toHaveCount(0);
 });

@@ -3,7 +3,7 @@ import { requirePageUser } from "@/lib/auth/guard";
 import { parseScopes } from "@/lib/auth/api-tokens";
 import { API_SCOPES } from "@/lib/auth/roles";
 import { db } from "@/lib/db/client";
-import { ActionForm } from "../components/action-form";
+import { ResultForm } from "@/app/components/forms/result-form";
 import { AdminNav } from "../admin-nav";
 import { createTokenAction, revokeTokenAction } from "./actions";
 
@@ -28,7 +28,9 @@ export default async function TokensPage() {
       <h1>API tokens</h1>
       <AdminNav current="tokens" />
       <p className="lede">
-        Machines send <code className="mono">Authorization: Bearer lmx_…</code>. A token is shown once when it is made; only a hash is kept.
+        Machines send <code className="mono">Authorization: Bearer lmx_…</code>. A token is shown once when it is made; only a hash is kept. With{" "}
+        <code className="mono">analysis:read</code> a token also downloads flagged periods (
+        <code className="mono">/episodes/&lt;id&gt;/export/csv|json|pdf</code>, <code className="mono">/episodes/export/csv|json</code>).
       </p>
       <div className="table-scroll">
         <table className="data">
@@ -63,9 +65,9 @@ export default async function TokensPage() {
                   {t.revokedAt ? (
                     `Revoked ${stamp(t.revokedAt)}`
                   ) : (
-                    <ActionForm action={revokeTokenAction} submitLabel="Revoke" secondary confirm={`Revoke the token "${t.name}"? Machines using it stop working.`}>
+                    <ResultForm block action={revokeTokenAction} submitLabel="Revoke" secondary confirm={`Revoke the token "${t.name}"? Machines using it stop working.`}>
                       <input type="hidden" name="tokenId" value={t.id} />
-                    </ActionForm>
+                    </ResultForm>
                   )}
                 </td>
               </tr>
@@ -76,7 +78,7 @@ export default async function TokensPage() {
 
       <section className="card" aria-labelledby="new-token">
         <h2 id="new-token">New token</h2>
-        <ActionForm action={createTokenAction} submitLabel="Create token">
+        <ResultForm block action={createTokenAction} submitLabel="Create token">
           <div className="field">
             <label htmlFor="token-name">Name (what uses it)</label>
             <input id="token-name" name="name" required minLength={2} maxLength={80} autoComplete="off" />
@@ -89,7 +91,7 @@ export default async function TokensPage() {
               </label>
             ))}
           </fieldset>
-        </ActionForm>
+        </ResultForm>
       </section>
     </>
   );

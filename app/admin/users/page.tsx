@@ -3,7 +3,7 @@ import Link from "next/link";
 import { requirePageUser } from "@/lib/auth/guard";
 import { ROLES, ROLE_LABELS, isRole } from "@/lib/auth/roles";
 import { db } from "@/lib/db/client";
-import { ActionForm } from "../components/action-form";
+import { ResultForm } from "@/app/components/forms/result-form";
 import { AdminNav } from "../admin-nav";
 import { createUserAction } from "./actions";
 
@@ -58,7 +58,7 @@ export default async function UsersPage() {
 
       <section className="card" aria-labelledby="new-user">
         <h2 id="new-user">New user</h2>
-        <ActionForm action={createUserAction} submitLabel="Create user">
+        <ResultForm block action={createUserAction} submitLabel="Create user">
           <div className="form-row">
             <div className="field">
               <label htmlFor="nu-username">User name</label>
@@ -83,7 +83,7 @@ export default async function UsersPage() {
               <input id="nu-password" name="password" type="password" required minLength={12} autoComplete="new-password" />
             </div>
           </div>
-        </ActionForm>
+        </ResultForm>
       </section>
     </>
   );

@@ -5,7 +5,8 @@ import { requirePageUser } from "@/lib/auth/guard";
 import { actorFromPrincipal } from "@/lib/intake/actor";
 import { SOURCE_LABELS, firstParam } from "@/lib/intake/format";
 import { correctionsPageData, describeCorrection } from "@/lib/intake/pages";
-import { ResultForm } from "../../setup/_components/result-form";
+import { ResultForm } from "@/app/components/forms/result-form";
+import { SheetChooser } from "@/app/components/forms/sheet-chooser";
 import { correctEntryAction } from "./actions";
 
 export const dynamic = "force-dynamic";
@@ -37,37 +38,17 @@ export default async function CorrectionsPage({ searchParams }: Search) {
           {p}
         </p>
       ))}
-      <form method="get" action="/entry/corrections" className="card form-row no-print" aria-label="Choose the sheet">
-        <div className="field">
-          <label htmlFor="c-line">Line</label>
-          <select id="c-line" name="line" defaultValue={data.line?.code}>
-            {data.lines.map((l) => (
-              <option key={l.code} value={l.code}>
-                {l.name} ({l.code})
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="c-shift">Shift</label>
-          <select id="c-shift" name="shift" defaultValue={data.shift?.code}>
-            {data.shifts.map((s) => (
-              <option key={s.code} value={s.code}>
-                {s.name} {s.startTime}–{s.endTime}
-              </option>
-            ))}
-          </select>
-        </div>
-        <div className="field">
-          <label htmlFor="c-date">Production date</label>
-          <input id="c-date" type="date" name="date" defaultValue={data.date} />
-        </div>
-        <div className="field">
-          <button type="submit" className="secondary">
-            Show entries
-          </button>
-        </div>
-      </form>
+      <SheetChooser
+        action="/entry/corrections"
+        label="Choose the sheet"
+        idPrefix="c"
+        lines={data.lines}
+        shifts={data.shifts}
+        line={data.line?.code}
+        shift={data.shift?.code}
+        date={data.date}
+        submitLabel="Show entries"
+      />
 
       {data.line && data.shift && (
         <h2>

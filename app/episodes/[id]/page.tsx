@@ -14,6 +14,7 @@ import { logServerError } from "@/lib/http/errors";
 import { formatExpected, formatNumber, formatP, formatPercent, formatRange, formatRatio, formatSigned, formatV } from "@/lib/review/format";
 import { StatusBadge } from "../status-badge";
 import { ActionRefsForm, NoteForm, OwnerForm, StatusForm } from "./review-forms";
+import { ThenNowTable } from "./then-now-table";
 import "../episodes.css";
 
 export const dynamic = "force-dynamic";
@@ -295,76 +296,39 @@ export default async function EpisodePage({ params, searchParams }: { params: Pa
               </nav>
             )}
             {diff.liveMissing && <p className="caution">{diff.liveMissing}</p>}
-            <div className="table-scroll">
-              <table className="data episode-diff">
-                <thead>
-                  <tr>
-                    <th scope="col">Measure</th>
-                    <th scope="col" className="num">
-                      Then
-                    </th>
-                    <th scope="col" className="num">
-                      Now
-                    </th>
-                    <th scope="col">
-                      <span className="visually-hidden">Changed?</span>
-                    </th>
-                  </tr>
-                </thead>
-                <tbody>
-                  <tr className={diff.range.changed ? "episode-row-changed" : undefined}>
-                    <th scope="row">Flagged period</th>
-                    <td className="num">
-                      {formatRange(diff.range.then.start, diff.range.then.end)} ({diff.range.then.windows})
-                    </td>
-                    <td className="num">
-                      {diff.range.now ? `${formatRange(diff.range.now.start, diff.range.now.end)} (${diff.range.now.windows})` : "no longer found"}
-                    </td>
-                    <td>{diff.range.changed && <span className="episode-changed">changed</span>}</td>
-                  </tr>
-                  {diff.measures.map((m) => (
-                    <tr key={m.key} className={m.changed ? "episode-row-changed" : undefined} data-measure={m.key}>
-                      <th scope="row">{m.label}</th>
-                      <td className="num">{measureText(m, m.then)}</td>
-                      <td className="num">{measureText(m, m.now)}</td>
-                      <td>{m.changed && <span className="episode-changed">changed</span>}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </div>
+            <ThenNowTable
+              heading="Measure"
+              rows={[
+                {
+                  key: "range",
+                  label: "Flagged period",
+                  then: `${formatRange(diff.range.then.start, diff.range.then.end)} (${diff.range.then.windows})`,
+                  now: diff.range.now ? `${formatRange(diff.range.now.start, diff.range.now.end)} (${diff.range.now.windows})` : "no longer found",
+                  changed: diff.range.changed,
+                },
+                ...diff.measures.map((m) => ({
+                  key: m.key,
+                  label: m.label,
+                  then: measureText(m, m.then),
+                  now: measureText(m, m.now),
+                  changed: m.changed,
+                  data: { "data-measure": m.key } as const,
+                })),
+              ]}
+            />
             {diff.cells.length > 0 && (
-              <div className="table-scroll">
-                <table className="data episode-diff">
-                  <caption>Driver cells, and any cell whose count changed</caption>
-                  <thead>
-                    <tr>
-                      <th scope="col">Cell</th>
-                      <th scope="col" className="num">
-                        Then
-                      </th>
-                      <th scope="col" className="num">
-                        Now
-                      </th>
-                      <th scope="col">
-                        <span className="visually-hidden">Changed?</span>
-                      </th>
-                    </tr>
-                  </thead>
-                  <tbody>
-                    {diff.cells.map((c) => (
-                      <tr key={`${c.row}-${c.category}`} className={c.changed ? "episode-row-changed" : undefined} data-cell={`${c.row}:${c.category}`}>
-                        <th scope="row">
-                          {rowName(c.row)} · {ctx.names.category(c.category)}
-                        </th>
-                        <td className="num">{cellText(c.then)}</td>
-                        <td className="num">{cellText(c.now)}</td>
-                        <td>{c.changed && <span className="episode-changed">changed</span>}</td>
-                      </tr>
-                    ))}
-                  </tbody>
-                </table>
-              </div>
+              <ThenNowTable
+                heading="Cell"
+                caption="Driver cells, and any cell whose count changed"
+                rows={diff.cells.map((c) => ({
+                  key: `${c.row}-${c.category}`,
+                  label: `${rowName(c.row)} · ${ctx.names.category(c.category)}`,
+                  then: cellText(c.then),
+                  now: cellText(c.now),
+                  changed: c.changed,
+                  data: { "data-cell": `${c.row}:${c.category}` } as const,
+                }))}
+              />
             )}
           </>
         )}

@@ -3,7 +3,7 @@ import { notFound } from "next/navigation";
 import { requirePageUser } from "@/lib/auth/guard";
 import { MASTER_LABELS, listMaster, type MasterKind, type MasterRow } from "@/lib/db/master-data";
 import { CODE_RULE } from "@/lib/intake/codes";
-import { ResultForm } from "../_components/result-form";
+import { ResultForm } from "@/app/components/forms/result-form";
 import { createMasterAction, setActiveAction, updateMasterAction } from "../actions";
 import { SETUP_KINDS, SetupNav } from "../setup-nav";
 
@@ -60,7 +60,10 @@ export default async function SetupKindPage({ params }: Props) {
       <h1>{label.many}</h1>
       <SetupNav current={kind} />
       {kind === "shift" && (
-        <p className="lede">Clock times are plant local time. A shift whose end is earlier than its start crosses midnight and belongs to the date on which it starts.</p>
+        <p className="lede">
+          Clock times are plant local time. A shift whose end is earlier than its start crosses midnight and belongs to the date on which it starts. Shifts in use
+          must not overlap: 06:00–14:00 and 14:00–22:00 meet, they do not overlap.
+        </p>
       )}
       {rows.length === 0 && <p className="muted">None yet.</p>}
       {rows.map((row) => (

@@ -4,7 +4,7 @@ import { notFound } from "next/navigation";
 import { requirePageUser } from "@/lib/auth/guard";
 import { ROLES, ROLE_LABELS, isRole } from "@/lib/auth/roles";
 import { db } from "@/lib/db/client";
-import { ActionForm } from "../../components/action-form";
+import { ResultForm } from "@/app/components/forms/result-form";
 import { AdminNav } from "../../admin-nav";
 import { changeRoleAction, resetPasswordAction, setActiveAction, setBadgeAction } from "../actions";
 
@@ -44,7 +44,7 @@ export default async function UserPage({ params }: { params: Promise<{ id: strin
         <section className="card" aria-labelledby="role-h">
           <h2 id="role-h">Role</h2>
           <p className="muted">Changing the role ends all of this user&apos;s sessions.</p>
-          <ActionForm action={changeRoleAction} submitLabel="Change role">
+          <ResultForm block action={changeRoleAction} submitLabel="Change role">
             {hidden}
             <div className="field">
               <label htmlFor="role">Role</label>
@@ -60,12 +60,12 @@ export default async function UserPage({ params }: { params: Promise<{ id: strin
               <label htmlFor="role-reason">Reason (optional)</label>
               <input id="role-reason" name="reason" maxLength={200} />
             </div>
-          </ActionForm>
+          </ResultForm>
         </section>
 
         <section className="card" aria-labelledby="active-h">
           <h2 id="active-h">{user.active ? "Deactivate" : "Reactivate"}</h2>
-          <ActionForm
+          <ResultForm block
             action={setActiveAction}
             submitLabel={user.active ? "Deactivate account" : "Reactivate account"}
             secondary
@@ -77,13 +77,13 @@ export default async function UserPage({ params }: { params: Promise<{ id: strin
               <label htmlFor="active-reason">Reason (optional)</label>
               <input id="active-reason" name="reason" maxLength={200} />
             </div>
-          </ActionForm>
+          </ResultForm>
         </section>
 
         <section className="card" aria-labelledby="badge-h">
           <h2 id="badge-h">Badge and PIN</h2>
           <p className="muted">For the quick sign-in on floor PCs (floor entry only). Leave the badge empty to remove it.</p>
-          <ActionForm action={setBadgeAction} submitLabel="Save badge">
+          <ResultForm block action={setBadgeAction} submitLabel="Save badge">
             {hidden}
             <div className="field">
               <label htmlFor="badge">Badge number</label>
@@ -93,19 +93,19 @@ export default async function UserPage({ params }: { params: Promise<{ id: strin
               <label htmlFor="pin">New PIN (4-8 digits)</label>
               <input id="pin" name="pin" type="password" inputMode="numeric" maxLength={8} autoComplete="new-password" />
             </div>
-          </ActionForm>
+          </ResultForm>
         </section>
 
         <section className="card" aria-labelledby="pw-h">
           <h2 id="pw-h">Reset password</h2>
           <p className="muted">Ends all of this user&apos;s sessions.</p>
-          <ActionForm action={resetPasswordAction} submitLabel="Set password">
+          <ResultForm block action={resetPasswordAction} submitLabel="Set password">
             {hidden}
             <div className="field">
               <label htmlFor="new-password">New password (12+ characters)</label>
               <input id="new-password" name="password" type="password" required minLength={12} autoComplete="new-password" />
             </div>
-          </ActionForm>
+          </ResultForm>
         </section>
       </div>
 
