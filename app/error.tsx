@@ -25,24 +25,10 @@ export default function ErrorPage({
   const trouble = troubleFromDigest(error?.digest);
   // retry (Next 16.3+) fetches the server part again; reset only re-renders what the browser has.
   const again = retry ?? reset;
-  if (trouble) {
-    return (
-      <section className="card" role="alert" data-database-condition={trouble.kind}>
-        <h1>{trouble.kind === "busy" ? "The database is busy" : "This page could not be shown"}</h1>
-        <p>{trouble.message}</p>
-        <p className="muted">
-          Reference for the administrator: <code className="mono">{error.digest}</code>
-        </p>
-        <button type="button" onClick={() => again()}>
-          Try again
-        </button>
-      </section>
-    );
-  }
   return (
-    <section className="card" role="alert">
-      <h1>Something went wrong</h1>
-      <p>This page could not be shown. Nothing you entered was lost unless the page said so; you can try again.</p>
+    <section className="card" role="alert" data-database-condition={trouble?.kind}>
+      <h1>{trouble?.kind === "busy" ? "The database is busy" : trouble ? "This page could not be shown" : "Something went wrong"}</h1>
+      <p>{trouble ? trouble.message : "This page could not be shown. Nothing you entered was lost unless the page said so; you can try again."}</p>
       {error?.digest && (
         <p className="muted">
           Reference for the administrator: <code className="mono">{error.digest}</code>

@@ -227,13 +227,26 @@ for (const principal of ["none", "bogus", "badge", "operator", "engineer", "admi
   });
 }
 
+/** Creates a token on the admin page and returns its secret (shown once). */
+async function createToken(admin: Page, name: string, scope: RegExp): Promise<string> {
+  await admin.goto("/admin/tokens");
+  await admin.getByLabel("Name (what uses it)").fill(name);
+  await admin.getByRole("checkbox", { name: scope }).check();
+  await admin.getByRole("button", { name: "Create token" }).click();
+  return (await admin.getByTestId("new-token").textContent())!.trim();
+}
+
+/** Revokes the named token on the admin page. */
+async function revokeToken(admin: Page, name: string): Promise<void> {
+  await admin.goto("/admin/tokens");
+  admin.once("dialog", (d) => d.accept());
+  await admin.getByRole("row", { name: new RegExp(name) }).getByRole("button", { name: "Revoke" }).click();
+  await expect(admin.getByRole("row", { name: new RegExp(name) })).toContainText("Revoked");
+}
+
 test("API tokens: a tallies:write token reaches only tallies routes; a revoked token nothing", async ({ browser, baseURL, playwright }) => {
   const admin = await principalPage(browser, "admin", baseURL!);
-  await admin.goto("/admin/tokens");
-  await admin.getByLabel("Name (what uses it)").fill("walk gateway");
-  await admin.getByRole("checkbox", { name: /tallies:write/ }).check();
-  await admin.getByRole("button", { name: "Create token" }).click();
-  const token = (await admin.getByTestId("new-token").textContent())!.trim();
+  const token = await createToken(admin, "walk gateway", /tallies:write/);
 
   const machine = await playwright.request.newContext({ baseURL });
   const problems: string[] = [];
@@ -246,10 +259,7 @@ test("API tokens: a tallies:write token reaches only tallies routes; a revoked t
   const pageResponse = await machine.get("/admin/users", { headers: bearer, maxRedirects: 0 });
   expect([307, 308]).toContain(pageResponse.status());
 
-  await admin.reload();
-  admin.once("dialog", (d) => d.accept());
-  await admin.getByRole("row", { name: /walk gateway/ }).getByRole("button", { name: "Revoke" }).click();
-  await expect(admin.getByRole("row", { name: /walk gateway/ })).toContainText("Revoked");
+  await revokeToken(admin, "walk gateway");
   await checkApis(machine, "none (revoked token)", (need) => need === "public", problems, baseURL!, bearer);
   await machine.dispose();
   await admin.context().close();
@@ -258,11 +268,7 @@ test("API tokens: a tallies:write token reaches only tallies routes; a revoked t
 
 test("API tokens: an analysis:read token downloads flagged periods' exports, and still opens no page", async ({ browser, baseURL, playwright }) => {
   const admin = await principalPage(browser, "admin", baseURL!);
-  await admin.goto("/admin/tokens");
-  await admin.getByLabel("Name (what uses it)").fill("walk report job");
-  await admin.getByRole("checkbox", { name: /analysis:read/ }).check();
-  await admin.getByRole("button", { name: "Create token" }).click();
-  const token = (await admin.getByTestId("new-token").textContent())!.trim();
+  const token = await createToken(admin, "walk report job", /analysis:read/);
   const machine = await playwright.request.newContext({ baseURL });
   const bearer = { authorization: `Bearer ${token}` };
 
@@ -282,10 +288,7 @@ test("API tokens: an analysis:read token downloads flagged periods' exports, and
   const anonymous = await machine.get(`/episodes/${episodes[0].id}/export/csv`, { maxRedirects: 0 });
   expect(anonymous.status()).toBe(307);
 
-  await admin.reload();
-  admin.once("dialog", (d) => d.accept());
-  await admin.getByRole("row", { name: /walk report job/ }).getByRole("button", { name: "Revoke" }).click();
-  await expect(admin.getByRole("row", { name: /walk report job/ })).toContainText("Revoked");
+  await revokeToken(admin, "walk report job");
   const afterRevoke = await machine.get(`/episodes/${episodes[0].id}/export/csv`, { headers: bearer, maxRedirects: 0 });
   expect(afterRevoke.status()).toBe(401);
   await machine.dispose();
