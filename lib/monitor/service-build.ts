@@ -1,9 +1,9 @@
 import type Database from "better-sqlite3";
 import { createCube, type Cube } from "./cube";
 import { dayNumber } from "./dates";
-import { finishScan, prepareScan, retestWindows, type PreparedScan } from "./engine";
+import { finishScan, retestWindows, type PreparedScan } from "./engine";
 import { lowerBound, windowStarts } from "./plan";
-import { finishRates, prepareRates, retestRates, type PreparedRates } from "./rates";
+import { finishRates, retestRates, type PreparedRates } from "./rates";
 import { addCurrentTallies, addCurrentUnits, checkPackable, clearDays, currentDateRange, isoDates, type LoadSpec } from "./service-load";
 import type { MasterData, MasterRow, SavedComparison } from "./service-settings";
 import type { TouchedEntry } from "./service-version";
@@ -26,19 +26,38 @@ export interface ScanOutput {
   rates: RateResult;
 }
 
-function select(rows: MasterRow[], codes: string[] | null, what: string, comparison: string): MasterRow[] {
+/**
+ * A saved comparison names a line, shift or category code the master data no longer
+ * hold (renamed or removed in setup): the comparison cannot be scanned until its settings
+ * are changed. A RangeError, so callers that only know RangeErrors still see the message.
+ *
+ * @example
+ * new UnknownCodeError("history-L13", "line", "L13").message; // 'Comparison history-L13 names a line "L13" that does not exist (any more) …'
+ */
+export class UnknownCodeError extends RangeError {
+  constructor(
+    readonly comparison: string,
+    readonly what: "line" | "shift" | "category",
+    readonly code: string,
+  ) {
+    super(`Comparison ${comparison} names a ${what} "${code}" that does not exist (any more); change its settings to scan it.`);
+    this.name = "UnknownCodeError";
+  }
+}
+
+function select(rows: MasterRow[], codes: string[] | null, what: "line" | "shift" | "category", comparison: string): MasterRow[] {
   if (codes === null) return rows;
   const byCode = new Map(rows.map((r) => [r.code, r]));
   return codes.map((code) => {
     const row = byCode.get(code);
-    if (!row) throw new RangeError(`comparison ${comparison} names an unknown ${what} "${code}"`);
+    if (!row) throw new UnknownCodeError(comparison, what, code);
     return row;
   });
 }
 
 /**
  * The entries a comparison reads: its filters as ids, its groups and categories in
- * display order; a code the master data does not know throws a RangeError.
+ * display order; a code the master data does not know throws an {@link UnknownCodeError}.
  *
  * @example
  * loadSpecOf({ ...comparison, compare: "shift", lines: ["L01"] }, master).groupBy; // "shift"
@@ -74,10 +93,18 @@ function codesOf(ids: number[], rows: MasterRow[]): string[] {
   return ids.map((id) => byId.get(id)!);
 }
 
+/** Where a build is: which pass, and how far through it (days read, windows tested). */
+export interface BuildStep {
+  phase: "entries" | "units" | "windows" | "rates";
+  done: number;
+  total: number;
+}
+
 /**
  * Reads a comparison's current entries into cubes and tests every window. Groups and
  * categories without a single current entry in the whole history are left out (unless
  * the comparison names them), so a retired line does not show as "dropped" in every window.
+ * All at once; {@link liveScanSteps} is the same build in slices.
  *
  * Cost: the SQL aggregation (≈ 1 s for two million entries) plus the scan.
  *
@@ -85,6 +112,34 @@ function codesOf(ids: number[], rows: MasterRow[]): string[] {
  * buildLiveScan(rawDb(), readComparison(rawDb(), "lines")!, readMasterData(rawDb())).mix?.starts.length; // 74 for 80 days, 7-day windows
  */
 export function buildLiveScan(db: Database.Database, comparison: SavedComparison, master: MasterData): LiveScan {
+  const steps = liveScanSteps(db, comparison, master, Infinity);
+  for (;;) {
+    const next = steps.next();
+    if (next.done) return next.value;
+  }
+}
+
+/**
+ * {@link buildLiveScan} as a generator that stops after every slice of about `sliceMs`
+ * of work (a block of days read, a run of windows tested), so a caller can hand the
+ * JavaScript thread back to waiting requests between slices. Slice sizes adapt to the
+ * measured cost of the previous slice (at most 4× larger each time). The result equals
+ * buildLiveScan's exactly: each window's test depends only on its own table and seed.
+ * The reads must all see one snapshot (the caller holds a read transaction across the
+ * slices), or entries arriving in between would be counted in some days and not others.
+ *
+ * Cost: buildLiveScan's, plus one SQL statement per block of days.
+ *
+ * @example
+ * const steps = liveScanSteps(db, comparison, master, 20);
+ * steps.next().value; // { phase: "entries", done: 7, total: 80 }
+ */
+export function* liveScanSteps(
+  db: Database.Database,
+  comparison: SavedComparison,
+  master: MasterData,
+  sliceMs: number,
+): Generator<BuildStep, LiveScan, void> {
   checkPackable(db);
   const full = loadSpecOf(comparison, master);
   const range = currentDateRange(db, full);
@@ -93,20 +148,49 @@ export function buildLiveScan(db: Database.Database, comparison: SavedComparison
   const last = dayNumber(range.last);
   const groupRows = full.groupBy === "shift" ? master.shifts : master.lines;
   const wide = createCube(first, last - first + 1, codesOf(full.groupIds, groupRows), codesOf(full.categoryIds, master.categories));
-  addCurrentTallies(db, full, wide);
+  yield* inSlices("entries", wide.days, 7, sliceMs, (d0, n) => addCurrentTallies(db, full, dayView(wide, d0, n)));
   const { cube, spec } = compact(wide, full, comparison);
   const units = createCube(first, cube.days, cube.groups, ["units"]);
-  addCurrentUnits(db, spec, units);
-  return { comparison, master, spec, ...prepareBoth(comparison, master, cube, units) };
+  yield* inSlices("units", units.days, 28, sliceMs, (d0, n) => addCurrentUnits(db, spec, dayView(units, d0, n)));
+  const { mix, rates } = plansOf(comparison, master, cube, units);
+  yield* inSlices("windows", mix.starts.length, 4, sliceMs, (lo, n) => retestWindows(mix, lo, lo + n));
+  yield* inSlices("rates", rates.starts.length, 16, sliceMs, (lo, n) => retestRates(rates, lo, lo + n));
+  return { comparison, master, spec, mix, rates };
 }
 
-function prepareBoth(c: SavedComparison, master: MasterData, cube: Cube, units: Cube): Pick<LiveScan, "mix" | "rates"> {
+// Days d0 … d0 + n − 1 of a cube as a cube of their own over the same memory.
+function dayView(cube: Cube, d0: number, n: number): Cube {
+  return { ...cube, firstDay: cube.firstDay + d0, days: n, data: cube.data.subarray(d0 * cube.width, (d0 + n) * cube.width) };
+}
+
+function* inSlices(
+  phase: BuildStep["phase"],
+  total: number,
+  initial: number,
+  sliceMs: number,
+  run: (from: number, count: number) => void,
+): Generator<BuildStep, void, void> {
+  let size = Number.isFinite(sliceMs) ? initial : total;
+  let done = 0;
+  while (done < total) {
+    const count = Math.min(size, total - done);
+    const t = performance.now();
+    run(done, count);
+    const ms = performance.now() - t;
+    done += count;
+    if (Number.isFinite(sliceMs)) size = Math.max(1, Math.min(4 * count, Math.floor((count * sliceMs) / Math.max(ms, 0.01))));
+    yield { phase, done, total };
+  }
+}
+
+// The window plans of both scans with no window tested yet (states filled by the caller).
+function plansOf(c: SavedComparison, master: MasterData, cube: Cube, units: Cube): { mix: PreparedScan; rates: PreparedRates } {
   const history = c.compare === "history";
   const baselineDays = history ? c.historyWeeks * 7 : 0;
   const last = cube.firstDay + cube.days - 1;
   const starts = windowStarts(cube.firstDay, last, c.windowDays, c.stepDays, baselineDays);
   const kind = history ? "history" : "groups";
-  const mix = prepareScan({
+  const mix: PreparedScan = {
     kind,
     cube,
     starts,
@@ -114,8 +198,9 @@ function prepareBoth(c: SavedComparison, master: MasterData, cube: Cube, units: 
     baselineDays,
     test: testOptions(c, master),
     finalize: { alpha: c.alpha, adjust: c.adjust, minEffect: c.minEffect },
-  });
-  const rates = prepareRates({ kind, tallies: cube, units, starts, windowDays: c.windowDays, baselineDays, alpha: c.alpha, adjust: c.adjust });
+    states: [],
+  };
+  const rates: PreparedRates = { kind, tallies: cube, units, starts, windowDays: c.windowDays, baselineDays, alpha: c.alpha, adjust: c.adjust, states: [] };
   return { mix, rates };
 }
 

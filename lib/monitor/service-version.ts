@@ -74,6 +74,23 @@ export function entryCounts(db: Database.Database): MaxIds {
   return { tally: row[0], units: row[1] };
 }
 
+/**
+ * {@link entryCounts} now, from counts taken earlier at `base` ids: base.counts plus the
+ * rows above base.ids (two rowid ranges, cheap). Exact unless rows at or below base.ids
+ * were deleted in between — which the next full count catches — so one full count can
+ * serve a whole refresh pass over many comparisons.
+ *
+ * @example
+ * entryCountsFrom(rawDb(), { ids: { tally: 1000, units: 50 }, counts: { tally: 1000, units: 50 } }); // { tally: 1025, units: 51 } after one floor sheet
+ */
+export function entryCountsFrom(db: Database.Database, base: { ids: MaxIds; counts: MaxIds }): MaxIds {
+  const row = db
+    .prepare("SELECT (SELECT COUNT(*) FROM TallyEntry WHERE id > ?), (SELECT COUNT(*) FROM InspectionCount WHERE id > ?)")
+    .raw()
+    .get(base.ids.tally, base.ids.units) as [number, number];
+  return { tally: base.counts.tally + row[0], units: base.counts.units + row[1] };
+}
+
 /** An entry touched by a change: a new entry, or one a new entry supersedes. */
 export interface TouchedEntry {
   table: "tally" | "units";

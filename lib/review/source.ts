@@ -1,7 +1,7 @@
 import { rawDb } from "@/lib/db/client";
 import type { ComparisonRecord } from "@/lib/db/comparisons";
 import { addDays } from "@/lib/dates";
-import { runComparison as serviceRun, windowDetail as serviceWindow } from "@/lib/monitor/service";
+import { PAGE_MAX_LAG_MS, runComparison as serviceRun, windowDetail as serviceWindow, type Computed } from "@/lib/monitor/service";
 import type { Episode, RateWindow, ScanWindow } from "@/lib/monitor/types";
 import type { TableAnalysis } from "@/lib/stats/analyze-table";
 import { criticalValue } from "./critical";
@@ -11,6 +11,11 @@ import { criticalValue } from "./critical";
  * each comparison's scan until the data or the settings change) for windows, episodes,
  * rates and one window's full table; and a small SQL aggregate for the weekly review's
  * calendar weeks. Nothing statistical is computed here.
+ *
+ * The screens read with the service's page staleness bound (PAGE_MAX_LAG_MS): while floor
+ * sheets arrive, a page shows the kept scan as it stood (at most 15 s behind, brought up
+ * to date in the background) instead of each page paying for the patch; `computed` says
+ * how current it is, for the page to show ("results as of 10:42:05, 12 entries since").
  */
 
 export interface ComparisonRun {
@@ -20,13 +25,20 @@ export interface ComparisonRun {
   /** Rate windows of the same plan (same order as windows; null where none). */
   rateWindows: (RateWindow | null)[];
   lastDate: string | null;
+  /** Why the comparison cannot be scanned (it names a line, shift or category that no longer exists), else null. */
+  problem: string | null;
+  /** How current the scan is: asOf (ISO) and pendingEntries (entries committed since, not yet in it). Null without a scan. */
+  computed: Computed | null;
 }
 
-const EMPTY: Omit<ComparisonRun, "comparison"> = { windows: [], episodes: [], rateWindows: [], lastDate: null };
+const EMPTY: Omit<ComparisonRun, "comparison"> = { windows: [], episodes: [], rateWindows: [], lastDate: null, problem: null, computed: null };
 
-/** The scan of one saved comparison (the service keeps it until data or settings change). */
+/**
+ * The scan of one saved comparison (the service keeps it until data or settings change;
+ * after a start, a comparison not yet built is built first — the page waits for it alone).
+ */
 export async function runComparison(c: ComparisonRecord): Promise<ComparisonRun> {
-  const run = await serviceRun(c.code);
+  const run = await serviceRun(c.code, { maxLagMs: PAGE_MAX_LAG_MS });
   if (!run) return { comparison: c, ...EMPTY };
   const byStart = new Map(run.rates.windows.map((w) => [w.start, w]));
   return {
@@ -35,6 +47,8 @@ export async function runComparison(c: ComparisonRecord): Promise<ComparisonRun>
     episodes: run.episodes,
     rateWindows: run.windows.map((w) => byStart.get(w.start) ?? null),
     lastDate: run.lastDate,
+    problem: run.problem,
+    computed: run.computed,
   };
 }
 
@@ -57,7 +71,7 @@ export interface WindowTable {
 
 /** The full table and analysis of the window starting on `start`; null when not testable or no such window. */
 export async function windowTable(c: ComparisonRecord, start: string): Promise<{ table: WindowTable | null; rateWindow: RateWindow | null } | null> {
-  const detail = await serviceWindow(c.code, start);
+  const detail = await serviceWindow(c.code, start, { maxLagMs: PAGE_MAX_LAG_MS });
   if (!detail) return null;
   const rateWindow = detail.rates;
   if (!detail.analysis) return { table: null, rateWindow };
