@@ -1,3 +1,5 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import { once } from "node:events";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db, rawDb } from "@/lib/db/client";
 import { useTempDatabase } from "../helpers/temp-db";
@@ -45,4 +47,42 @@ describe("the Prisma client's own connection", () => {
       ),
     ).rejects.toThrow(/FOREIGN KEY/i);
   });
+});
+
+/**
+ * Another process holds the write lock for `ms` milliseconds. (Not a connection of this
+ * process: better-sqlite3's busy wait blocks the thread, so a timer here could not
+ * release it.) Resolves once the lock is held.
+ */
+async function lockElsewhere(file: string, ms: number): Promise<ChildProcess> {
+  const child = spawn(
+    process.execPath,
+    ["-e", `const D=require("better-sqlite3");const d=new D(${JSON.stringify(file)});d.exec("BEGIN EXCLUSIVE");console.log("locked");setTimeout(()=>{d.exec("ROLLBACK");d.close();process.exit(0)},${ms});`],
+    { cwd: process.cwd(), stdio: ["ignore", "pipe", "inherit"] },
+  );
+  await new Promise<void>((resolve, reject) => {
+    child.stdout!.on("data", (d: Buffer) => d.toString().includes("locked") && resolve());
+    child.on("exit", (code) => reject(new Error(`locker exited with ${code}`)));
+  });
+  return child;
+}
+
+describe("Prisma transactions and another process's write lock", () => {
+  it.each([1_000, 3_000])(
+    "a transaction that reads before it writes waits %i ms for the lock (BEGIN IMMEDIATE) instead of failing at once",
+    async (ms) => {
+      const line = await db().line.upsert({ where: { code: "LK" }, create: { code: "LK", name: "Locked line" }, update: { name: "Locked line" } });
+      const locker = await lockElsewhere(ctx.url.slice("file:".length), ms);
+      const t0 = Date.now();
+      // With a deferred BEGIN this failed after about 12 ms with SQLITE_BUSY (measured before the fix).
+      await db().$transaction(async (tx) => {
+        const before = await tx.line.findUniqueOrThrow({ where: { id: line.id } });
+        await tx.line.update({ where: { id: line.id }, data: { name: `${before.name} (renamed)` } });
+      });
+      expect(Date.now() - t0).toBeGreaterThanOrEqual(ms - 100);
+      expect((await db().line.findUniqueOrThrow({ where: { id: line.id } })).name).toBe("Locked line (renamed)");
+      if (locker.exitCode === null) await once(locker, "exit");
+    },
+    20_000,
+  );
 });

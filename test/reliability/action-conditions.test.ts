@@ -216,11 +216,13 @@ describe("server actions when another connection holds the write lock", () => {
     const before = rowCounts();
     const locker = new Database(ctx.url.slice("file:".length));
     locker.exec("BEGIN EXCLUSIVE");
+    const t0 = Date.now();
     try {
-      // Prisma's transaction reads first, and SQLite refuses a read transaction's upgrade
-      // to writing at once when another connection holds the lock (no busy wait): the
-      // answer is the same plain message, only sooner.
+      // Prisma's transaction begins IMMEDIATE, so it waits out the busy timeout for the lock
+      // (lib/db/client.ts), then answers busy; and the next transaction still starts
+      // (the adapter's mutex is not left held: the update after the release below).
       expectPlain(await updateMasterAction(IDLE, form({ kind: "line", id: String(plant.lines.L1), name: "Renamed while locked", displayOrder: "0" })), /busy.*try again/);
+      expect(Date.now() - t0).toBeGreaterThanOrEqual(4_500);
       signedIn(engineerToken);
       expectPlain(
         await correctEntryAction(IDLE, form({ idempotencyKey: "busy-correction-1", kind: "tally", entryId: String(entryIds[301]), value: "5", reason: "recount" })),
