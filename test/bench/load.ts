@@ -14,6 +14,12 @@
 // reads, posts, mixed, plant; default mixed,plant — "plant" is the same 50 clients, each
 // pausing BENCH_THINK_MS (5,000) on average between requests, about 10 requests/s in
 // all, still more than a plant's floor and engineers make), BENCH_PORT (3351).
+// Cold start: the time from spawning `npm start` to health answering and to the first
+// overview answered (the server builds the scans in the background from its start, see
+// instrumentation.ts), with /api/health every 250 ms and a floor POST every second timed
+// meanwhile. BENCH_STALL_LOG_MS (1,000): the server logs to stderr every stall of its
+// thread and every piece of scan work at least that long. Server CPU seconds (utime + stime of its process tree, /proc) are printed
+// beside wall time for every phase: the machine may be shared.
 import Database from "better-sqlite3";
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
@@ -131,6 +137,30 @@ function serverRssMb(root: number): number | null {
   return best;
 }
 
+/** CPU seconds (user + system) of the server's process tree so far, from /proc (Linux). */
+function serverCpuSeconds(root: number): number | null {
+  const ticks = 100; // USER_HZ on Linux
+  let total: number | null = null;
+  const walk = (pid: number) => {
+    try {
+      // Fields after the command name (which may hold spaces): utime is the 12th, stime the 13th.
+      const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
+      const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
+      total = (total ?? 0) + (Number(fields[11]) + Number(fields[12])) / ticks;
+      for (const c of readFileSync(`/proc/${pid}/task/${pid}/children`, "utf8").trim().split(/\s+/).filter(Boolean)) walk(Number(c));
+    } catch {
+      // gone
+    }
+  };
+  walk(root);
+  return total;
+}
+
+const quantile = (values: number[], q: number) => {
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted.length ? sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil(q * sorted.length) - 1))] : NaN;
+};
+
 const fmt = (n: number, width: number, digits = 0) => n.toFixed(digits).padStart(width);
 
 /** node:http with no timeout: a cold first page may take minutes, past fetch's header timeout. */
@@ -241,13 +271,29 @@ try {
   await closeDb();
   const cookie = `${SESSION_COOKIE}=${session}`;
 
+  const spawnedAt = performance.now();
   server = spawn("npx", ["tsx", "lib/cli/start.ts"], {
-    env: { ...process.env, DATABASE_URL: url, PORT: String(PORT), LINEMIX_DIST_DIR: DIST, NEXT_TELEMETRY_DISABLED: "1" },
-    stdio: ["ignore", "ignore", "inherit"],
+    env: {
+      ...process.env,
+      DATABASE_URL: url,
+      PORT: String(PORT),
+      LINEMIX_DIST_DIR: DIST,
+      NEXT_TELEMETRY_DISABLED: "1",
+      // Stalls of the server's thread and slow scan work go to stderr (BENCH_STALL_LOG_MS=0: off).
+      LINEMIX_STALL_LOG_MS: process.env.BENCH_STALL_LOG_MS ?? "1000",
+    },
+    stdio: ["ignore", "pipe", "inherit"],
     detached: true,
+  });
+  // The server's own account of its background warm-up (instrumentation.ts), printed at the end.
+  const warmUpLines: string[] = [];
+  server.stdout!.setEncoding("utf8");
+  server.stdout!.on("data", (chunk: string) => {
+    for (const line of chunk.split("\n")) if (line.startsWith("scan warm-up")) warmUpLines.push(line.trim());
   });
   const base = `http://127.0.0.1:${PORT}`;
   await waitForHealth(base, server);
+  const healthUpMs = performance.now() - spawnedAt;
 
   const windowStart = addDays(lastDay, -35);
   const windowPath = `/comparisons/lines/windows/${windowStart}`;
@@ -271,36 +317,61 @@ try {
     onResponse: (status, body) => onPostResponse(status, body),
   };
 
-  // Warm-up: the first overview builds every saved comparison's scan. Meanwhile a floor
-  // sheet is posted and the health route asked, to see whether the floor waits for it.
+  // Cold start: the server builds every saved comparison's scan in the background from
+  // its start; the first overview waits for them. Meanwhile health is asked every 250 ms
+  // and a floor sheet posted every second, to see whether the floor waits for the builds.
   {
     const t = performance.now();
-    const cold = slowGet(`${base}/`, cookie);
-    await new Promise((r) => setTimeout(r, 2_000));
-    const during = async (label: string, call: () => Promise<{ status: number }>) => {
-      const t1 = performance.now();
-      const r = await call();
-      return `${label} HTTP ${r.status} after ${(performance.now() - t1).toFixed(0)} ms`;
+    const cpu0 = serverCpuSeconds(server.pid!);
+    let coldDone = false;
+    const cold = slowGet(`${base}/`, cookie).finally(() => (coldDone = true));
+    const health: number[] = [];
+    const posts: number[] = [];
+    let sideErrors = 0;
+    const probe = async (every: number, call: () => Promise<{ status: number }>, into: number[]) => {
+      while (!coldDone) {
+        const t1 = performance.now();
+        try {
+          const r = await call();
+          if (r.status < 200 || r.status > 299) sideErrors++;
+          into.push(performance.now() - t1);
+        } catch {
+          sideErrors++;
+        }
+        await new Promise((r) => setTimeout(r, every));
+      }
     };
-    const side = await Promise.all([
-      during("health", () => slowRequest(`${base}/api/health`)),
-      during("floor POST", () =>
-        slowRequest(`${base}/api/v1/tallies`, {
+    let coldPosts = 0;
+    await Promise.all([
+      probe(250, () => slowRequest(`${base}/api/health`), health),
+      probe(1_000, () => {
+        const key = `load-${process.pid}-cold-${coldPosts++}`;
+        return slowRequest(`${base}/api/v1/tallies`, {
           method: "POST",
-          headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": `load-${process.pid}-cold` },
-          body: sheetBatch(0, today),
+          headers: { "content-type": "application/json", authorization: `Bearer ${apiToken}`, "idempotency-key": key },
+          body: sheetBatch(coldPosts, today),
         }).then((r) => {
-          if (r.status === 201) acknowledged.add(`load-${process.pid}-cold`);
+          if (r.status === 201) acknowledged.add(key);
           return r;
-        }),
-      ),
-    ]).catch((error: unknown) => [`side requests failed: ${String(error)}`]);
+        });
+      }, posts),
+    ]);
     const status = await cold;
     if (status !== 200) throw new Error(`warm-up /: HTTP ${status}`);
-    console.log(`warm-up (cold) /: ${(performance.now() - t).toFixed(0)} ms; during it: ${side.join(", ")}`);
+    const cpu1 = serverCpuSeconds(server.pid!);
+    const ms = (xs: number[]) => `p50 ${quantile(xs, 0.5).toFixed(0)} ms, p99 ${quantile(xs, 0.99).toFixed(0)} ms, max ${Math.max(...xs).toFixed(0)} ms`;
+    console.log(
+      `cold start: health answered ${(healthUpMs / 1000).toFixed(1)} s after spawning npm start; first overview answered ` +
+        `${((performance.now() - spawnedAt) / 1000).toFixed(1)} s after spawning (${((performance.now() - t) / 1000).toFixed(1)} s after asking; ` +
+        `server CPU ${cpu0 !== null && cpu1 !== null ? (cpu1 - cpu0).toFixed(1) : "n/a"} s meanwhile)`,
+    );
+    console.log(
+      `  during it: ${health.length} health checks (${ms(health)}), ${posts.length} floor POSTs (${ms(posts)}), ${sideErrors} errors; ` +
+        `load average ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
+    );
     const t2 = performance.now();
     if ((await slowGet(`${base}${windowPath}`, cookie)) !== 200) throw new Error(`warm-up ${windowPath} failed`);
-    console.log(`warm-up (cold) ${windowPath}: ${(performance.now() - t2).toFixed(0)} ms`);
+    console.log(`first ${windowPath}: ${(performance.now() - t2).toFixed(0)} ms`);
   }
 
   type Phase = { name: string; posts: number; overview: number; windows: number; thinkMs?: number };
@@ -328,6 +399,7 @@ try {
         `load average before: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
     );
     const get = (route: string): Call => ({ method: "GET", path: route, headers: { cookie } });
+    const phaseCpu0 = serverCpuSeconds(server.pid!);
     const load = (count: number, call: () => Call, request: CannonRequest, onResponse?: (status: number, body: string) => void) =>
       phase.thinkMs
         ? thinkingUsers(base, count, phase.thinkMs, SECONDS, call, onResponse)
@@ -364,6 +436,11 @@ try {
     console.log(
       `${"all".padEnd(13)} ${fmt(clients, 7)} ${fmt(total, 9)} ${fmt(total / duration, 7, 1)} ${"".padStart(8)} ${"".padStart(8)} ${fmt(worstP99, 8)} ${"".padStart(8)} ${fmt(errors, 7)}` +
         `${"".padStart(9)}  ${ok ? "✓" : "✗"}`,
+    );
+    const phaseCpu1 = serverCpuSeconds(server.pid!);
+    console.log(
+      `server CPU ${phaseCpu0 !== null && phaseCpu1 !== null ? (phaseCpu1 - phaseCpu0).toFixed(1) : "n/a"} s in ${duration.toFixed(0)} s of wall time; ` +
+        `load average after: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
     );
   }
   const rss = server.pid ? serverRssMb(server.pid) : null;
@@ -413,6 +490,7 @@ try {
       `${SAME_KEY_POSTS - created - replays} other; ${ids.size} submission id; ${sameSubmissions} Submission row, ${sameRows} tally rows  ${sameOk ? "✓" : "✗"}`,
   );
   console.log(`integrity_check: ${integrity}; server RSS after the run: ${rss === null ? "n/a" : `${rss.toFixed(0)} MB`}`);
+  console.log(`server: ${warmUpLines.join("; ") || "no warm-up line (LINEMIX_WARM_UP=0, or an older build)"}`);
   console.log(
     `machine: ${cpus().length} × ${cpus()[0]?.model ?? "cpu"}, ${(totalmem() / 2 ** 30).toFixed(1)} GB RAM (${(freemem() / 2 ** 30).toFixed(1)} GB free), ` +
       `Node ${process.version}, load average after: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
