@@ -59,27 +59,21 @@ interface CellPass {
   cellsBelow1: number;
 }
 
-// Per-margin factors that turn every per-cell square root into two products:
-// 1/√E_ij = √n/(√R_i √C_j), and Haberman's adjusted residual is the Pearson
-// residual divided by √((1 − R_i/n)(1 − C_j/n)).
-function marginFactors(totals: readonly number[], n: number) {
-  const pearson: number[] = [];
-  const adjusted: number[] = [];
-  let sumXLogX = 0;
-  const rootN = Math.sqrt(n);
-  for (const total of totals) {
-    const factor = Math.sqrt(rootN / total); // n^¼/√total, half of √n/(√R √C)
-    pearson.push(factor);
-    adjusted.push(factor / Math.sqrt(1 - total / n));
-    sumXLogX += xLogX(total);
-  }
-  return { pearson, adjusted, sumXLogX };
-}
+// Per-column factors of the cell pass, kept between calls (grown on demand) so
+// a call allocates only its outputs: why, analyzeTable runs per window over
+// months of windows and its cost was allocation-bound.
+let columnPearsonFactors = new Float64Array(64);
+let columnAdjustedFactors = new Float64Array(64);
 
 // One pass over the cells with no square root, division or logarithm per cell.
+// Margin factors turn every per-cell square root into two products:
+// 1/√E_ij = √n/(√R_i √C_j) = (n^¼/√R_i)(n^¼/√C_j), and Haberman's adjusted
+// residual is the Pearson residual divided by √((1 − R_i/n)(1 − C_j/n)).
 // G²/2 = Σ O ln O − Σ R ln R − Σ C ln C + n ln n: the margins-only form of
 // Σ O ln(O/E), read from a k ln k table (see accurateGSquare for when its
 // rounding matters). Contributions hold the raw X² terms until rescaled.
+// Every sum runs in the same order as before the factors were cached, so the
+// results are the same to the last bit.
 function cellPass(
   observed: readonly (readonly number[])[],
   rowTotals: readonly number[],
@@ -91,10 +85,22 @@ function cellPass(
   const columns = columnTotals.length;
   const xlogx = xLogXTable(maxCount);
   const tableSize = xlogx.length;
-  const rowFactors = marginFactors(rowTotals, n);
-  const columnFactors = marginFactors(columnTotals, n);
-  const columnPearson = columnFactors.pearson;
-  const columnAdjusted = columnFactors.adjusted;
+  if (columnPearsonFactors.length < columns) {
+    columnPearsonFactors = new Float64Array(2 * columns);
+    columnAdjustedFactors = new Float64Array(2 * columns);
+  }
+  const columnPearson = columnPearsonFactors;
+  const columnAdjusted = columnAdjustedFactors;
+  const rootN = Math.sqrt(n);
+  // k ln k of a margin total past the table, inline: the same formula as xLogX.
+  let columnXLogX = 0;
+  for (let j = 0; j < columns; j++) {
+    const total = columnTotals[j];
+    const factor = Math.sqrt(rootN / total); // n^¼/√total, half of √n/(√R √C)
+    columnPearson[j] = factor;
+    columnAdjusted[j] = factor / Math.sqrt(1 - total / n);
+    columnXLogX += total < tableSize ? xlogx[total] : total * Math.log(total);
+  }
   const expected: number[][] = new Array(rows);
   const pearson: number[][] = new Array(rows);
   const adjusted: number[][] = new Array(rows);
@@ -102,14 +108,16 @@ function cellPass(
   const fiveN = 5 * n;
   let chiSquare = 0;
   let cellXLogX = 0;
+  let rowXLogX = 0;
   let cellsBelow5 = 0;
   let cellsBelow1 = 0;
   for (let i = 0; i < rows; i++) {
     const rowTotal = rowTotals[i];
     const row = observed[i];
     const rowScale = rowTotal / n;
-    const rowPearson = rowFactors.pearson[i];
-    const rowAdjusted = rowFactors.adjusted[i];
+    const rowPearson = Math.sqrt(rootN / rowTotal);
+    const rowAdjusted = rowPearson / Math.sqrt(1 - rowTotal / n);
+    rowXLogX += rowTotal < tableSize ? xlogx[rowTotal] : rowTotal * Math.log(rowTotal);
     const e = new Array<number>(columns);
     const pr = new Array<number>(columns);
     const ar = new Array<number>(columns);
@@ -139,7 +147,7 @@ function cellPass(
     adjusted[i] = ar;
     contributions[i] = co;
   }
-  const gHalf = cellXLogX - rowFactors.sumXLogX - columnFactors.sumXLogX + xLogX(n);
+  const gHalf = cellXLogX - rowXLogX - columnXLogX + xLogX(n);
   return {
     expected,
     pearsonResiduals: pearson,

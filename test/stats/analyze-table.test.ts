@@ -130,6 +130,25 @@ describe("cell diagnostics", () => {
   });
 });
 
+  it("residuals follow their defining formulas on a wide table and on a narrow one after it (column factors are reused between calls)", () => {
+    // 3×150 (more columns than the first factor buffer holds), then 2×3 again.
+    const wide = [0, 1, 2].map((i) => Array.from({ length: 150 }, (_, j) => 1 + ((i * 7 + j * 13) % 11)));
+    for (const table of [wide, PARTY_BY_GENDER, wide]) {
+      const a = analyzeTable(table);
+      const n = a.n;
+      table.forEach((row, i) =>
+        row.forEach((o, j) => {
+          const e = (a.rowTotals[i] * a.columnTotals[j]) / n;
+          // Pearson (O − E)/√E and Haberman (O − E)/√(E (1 − R/n)(1 − C/n)), by hand.
+          expect(a.expected[i][j]).toBeCloseTo(e, 12);
+          expect(a.pearsonResiduals[i][j]).toBeCloseTo((o - e) / Math.sqrt(e), 12);
+          const v = e * (1 - a.rowTotals[i] / n) * (1 - a.columnTotals[j] / n);
+          expect(a.adjustedResiduals[i][j]).toBeCloseTo((o - e) / Math.sqrt(v), 12);
+        }),
+      );
+    }
+  });
+
 describe("expected-count rules", () => {
   // "Every expected count at least 5" is common practice (a rule of thumb), not a theorem;
   // Cochran's rule (1954) allows up to 20% below 5 and none below 1.
