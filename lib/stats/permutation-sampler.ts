@@ -11,9 +11,8 @@ export const PERMUTATION_SAMPLER_MAX_CELLS = 2 ** 14;
 // labels being shuffled; META, per position i the packed word
 // threshold_i | cellBase_i << 16 (Lemire's rejection threshold for a pick
 // from n − i, the offset of the cells of i's block); CELLS, the counts of the
-// table being drawn; LABEL_SIZE and LABEL_LEFT, the label totals and what the
-// shuffled blocks leave of them; WEIGHTS, the cell weights; STATE, the
-// generator state.
+// table being drawn; LABEL_SIZE, the label totals; WEIGHTS, the cell
+// weights; STATE, the generator state.
 // Why module constants: V8 compiles a loop over a constant typed array with
 // its address and length folded in; over an array passed as an argument,
 // every iteration re-checks its map and reloads its base and length, and the
@@ -32,7 +31,6 @@ const UNITS = new Uint16Array(MAX_N);
 const META = new Int32Array(MAX_N);
 const CELLS = new Uint16Array(MAX_CELLS);
 const LABEL_SIZE = new Int32Array(MAX_LABELS);
-const LABEL_LEFT = new Int32Array(MAX_LABELS);
 const WEIGHTS = new Float64Array(MAX_CELLS);
 // The owner's xoroshiro128+ state [s01, s00, s11, s10] (longer than needed: V8
 // keeps typed arrays of up to 64 bytes on its heap, where they can move, and
@@ -110,13 +108,15 @@ function takeWorkspace(sampler: PermutationSampler): void {
  * 0..m−1 (m a multiple of 3, at most n − 1), counting each placed unit in
  * its cell. Three 16-bit chunks per generator step (bits 16–31, 32–47, 48–63
  * of the 64-bit output) give three picks, rejected together.
- * No array access is rare here, and none comes before or after the loop
- * (the state comes in as arguments and is stored on every pass): V8
- * compiles this function during its first, long call, and an access that
- * had not run by then with a feedback vector lacks type feedback, so the
- * compiled code deoptimizes on reaching it, and V8 may settle on a slower
- * on-stack-replacement build of the loop (seen: 14 µs or 21–32 µs per
- * table at random from one process to the next).
+ * The state comes in as arguments and goes back to STATE on the way out.
+ * V8 compiles this function during its first, long call, and an access
+ * that had not run by then with a feedback vector lacks type feedback, so
+ * the compiled code would deoptimize on reaching it (the exit, a rejected
+ * step) and V8 may settle on a slower on-stack-replacement build of the
+ * loop (seen: 14 µs or 21–32 µs per table at random from one process to
+ * the next): the warm-up at the end of this module runs every path once,
+ * in the interpreter, before any real table. Storing the state on every
+ * pass instead (as before) costs four typed-array stores per step.
  */
 function shuffle(n: number, m: number, s01: number, s00: number, s11: number, s10: number): void {
   // Typed as 32-bit integers from here (arguments are any number to V8, which
@@ -129,13 +129,13 @@ function shuffle(n: number, m: number, s01: number, s00: number, s11: number, s1
   s10 |= 0;
   let i = 0;
   for (;;) {
-    // The state is stored on every pass and the loop left right after, so no
-    // array access follows the loop (see above).
-    STATE[0] = s01;
-    STATE[1] = s00;
-    STATE[2] = s11;
-    STATE[3] = s10;
-    if (i >= m) return;
+    if (i >= m) {
+      STATE[0] = s01;
+      STATE[1] = s00;
+      STATE[2] = s11;
+      STATE[3] = s10;
+      return;
+    }
     const lo = (s00 + s10) | 0;
     const hi = (s01 + s11 + (((s00 & s10) | ((s00 | s10) & ~lo)) >>> 31)) | 0;
     const a0 = s10 ^ s00;
@@ -191,13 +191,13 @@ function shuffleSingly(n: number, m: number, s01: number, s00: number, s11: numb
   s10 |= 0;
   let i = 0;
   for (;;) {
-    // The state is stored on every pass and the loop left right after, so no
-    // array access follows the loop (see above).
-    STATE[0] = s01;
-    STATE[1] = s00;
-    STATE[2] = s11;
-    STATE[3] = s10;
-    if (i >= m) return;
+    if (i >= m) {
+      STATE[0] = s01;
+      STATE[1] = s00;
+      STATE[2] = s11;
+      STATE[3] = s10;
+      return;
+    }
     const lo = (s00 + s10) | 0;
     const hi = (s01 + s11 + (((s00 & s10) | ((s00 | s10) & ~lo)) >>> 31)) | 0;
     const a0 = s10 ^ s00;
@@ -220,56 +220,47 @@ function shuffleSingly(n: number, m: number, s01: number, s00: number, s11: numb
 }
 
 /**
- * Σ w x² over the shuffled blocks, clearing their counts, and over the last
- * block by subtraction (label totals less the rest); copies the table to
- * `out` in the caller's cell order when given. Branch-free on the counts
- * (most cells of a sparse table are 0, and a test on each would mispredict)
- * and summed in four interleaved partial sums, so the additions do not wait
- * on each other.
+ * Σ w x² over the shuffled blocks, and over the last block by subtraction
+ * (label totals less the rest); clears the counts and copies the table to
+ * `out` in the caller's cell order when given. Label by label down the
+ * blocks, so what the shuffled blocks leave of a label stays in a local
+ * (three typed-array accesses per cell instead of five), four cells at a
+ * time in four partial sums so the additions do not wait on each other;
+ * branch-free on the counts (most cells of a sparse table are 0, and a test
+ * on each would mispredict).
  */
 function tally(labels: number, cells: number, out: Int32Array | undefined, caller: Int32Array): number {
   const last = cells - labels;
   if (out !== undefined) for (let k = 0; k < last; k++) out[caller[k]] = CELLS[k];
-  for (let t = 0; t < labels; t++) LABEL_LEFT[t] = LABEL_SIZE[t];
+  const stride = 4 * labels;
   let s0 = 0;
   let s1 = 0;
   let s2 = 0;
   let s3 = 0;
-  const quads = labels & ~3;
-  for (let base = 0; base < last; base += labels) {
-    let t = 0;
-    for (; t < quads; t += 4) {
-      const k = base + t;
-      const x0 = CELLS[k];
-      const x1 = CELLS[k + 1];
-      const x2 = CELLS[k + 2];
-      const x3 = CELLS[k + 3];
-      CELLS[k] = 0;
-      CELLS[k + 1] = 0;
-      CELLS[k + 2] = 0;
-      CELLS[k + 3] = 0;
-      s0 += x0 * x0 * WEIGHTS[k];
-      s1 += x1 * x1 * WEIGHTS[k + 1];
-      s2 += x2 * x2 * WEIGHTS[k + 2];
-      s3 += x3 * x3 * WEIGHTS[k + 3];
-      LABEL_LEFT[t] -= x0;
-      LABEL_LEFT[t + 1] -= x1;
-      LABEL_LEFT[t + 2] -= x2;
-      LABEL_LEFT[t + 3] -= x3;
-    }
-    for (; t < labels; t++) {
-      const x = CELLS[base + t];
-      CELLS[base + t] = 0;
-      s0 += x * x * WEIGHTS[base + t];
-      LABEL_LEFT[t] -= x;
-    }
-  }
   for (let t = 0; t < labels; t++) {
-    const x = LABEL_LEFT[t];
-    CELLS[last + t] = 0; // counts of the positions shuffled beyond m (see createPermutationTableSampler)
-    s1 += x * x * WEIGHTS[last + t];
-    if (out !== undefined) out[caller[last + t]] = x;
+    let left = LABEL_SIZE[t];
+    let k = t;
+    for (; k + 3 * labels < last; k += stride) {
+      const x0 = CELLS[k];
+      const x1 = CELLS[k + labels];
+      const x2 = CELLS[k + 2 * labels];
+      const x3 = CELLS[k + 3 * labels];
+      s0 += x0 * x0 * WEIGHTS[k];
+      s1 += x1 * x1 * WEIGHTS[k + labels];
+      s2 += x2 * x2 * WEIGHTS[k + 2 * labels];
+      s3 += x3 * x3 * WEIGHTS[k + 3 * labels];
+      left -= x0 + x1 + (x2 + x3);
+    }
+    for (; k < last; k += labels) {
+      const x = CELLS[k];
+      s0 += x * x * WEIGHTS[k];
+      left -= x;
+    }
+    s1 += left * left * WEIGHTS[last + t];
+    if (out !== undefined) out[caller[last + t]] = left;
   }
+  // Also the last block's counts of the positions shuffled beyond m (see createPermutationTableSampler).
+  CELLS.fill(0, 0, cells);
   return s0 + s1 + (s2 + s3);
 }
 
@@ -387,4 +378,16 @@ export function createPermutationTableSampler(
       return tally(labels, cells, out, caller);
     },
   };
+}
+
+// Warm-up (see shuffle): one small table (six blocks, so tally's four-wide
+// loop runs too) drawn with and without an output buffer at module load, so
+// every array access of shuffle and tally has run, with type feedback,
+// before the first real table. Well under a millisecond, once; the
+// workspace is left to the next sampler.
+{
+  const warmUp = createPermutationTableSampler([8, 8], [1, 1, 1, 1, 2, 10], { seed: 1 });
+  warmUp.sample(new Int32Array(12));
+  warmUp.sample();
+  owner = null;
 }
