@@ -92,6 +92,9 @@ export const REFRESH_EVERY_MS = 3_000;
 /** A build hands the JavaScript thread back to waiting requests after about this much work. */
 const SLICE_MS = 15;
 
+/** How often a server looks for commits (two pragma reads) to refresh kept results with no read asking. */
+const WATCH_MS = 1_000;
+
 // Diagnosis (benchmarks): synchronous scan work longer than this is logged.
 const SLOW_LOG_MS = Number(process.env.LINEMIX_STALL_LOG_MS ?? 0);
 
@@ -165,6 +168,8 @@ interface ServiceState {
   warm: WarmUp | null;
   passTimer: ReturnType<typeof setTimeout> | null;
   lastPassAt: number;
+  /** Looks for commits every WATCH_MS once a server started the warm-up (see watchWrites). */
+  watcher: ReturnType<typeof setInterval> | null;
   /** Set when the state is replaced (another database, forgetKeptResults): running work stops. */
   dead: boolean;
 }
@@ -188,6 +193,7 @@ function state(db: Database.Database): ServiceState {
       warm: null,
       passTimer: null,
       lastPassAt: 0,
+      watcher: null,
       dead: false,
     };
   }
@@ -197,6 +203,7 @@ function state(db: Database.Database): ServiceState {
 function retire(s: ServiceState): void {
   s.dead = true;
   if (s.passTimer) clearTimeout(s.passTimer);
+  if (s.watcher) clearInterval(s.watcher);
   for (const job of s.queue) job.resolve();
   s.queue = [];
   // A running build closes the connection when it notices (it holds a transaction on it).
@@ -319,7 +326,10 @@ export interface WarmUpStatus {
  * Starts building every active comparison's scan in the background (after a server
  * start), one at a time in slices, so requests are answered meanwhile; resolves when all
  * are built. Safe to call again (kept or queued comparisons are not rebuilt). A failing
- * build is logged and left for the first request to report.
+ * build is logged and left for the first request to report. From then on the service
+ * also looks for commits every second and refreshes the kept results in the background
+ * (at most every REFRESH_EVERY_MS) even when no page is being read, so the first page
+ * after a quiet spell does not find them all far behind.
  *
  * Cost: the sum of the cold builds, spread over time; between slices the event loop
  * serves requests, which add their own time.
@@ -331,6 +341,7 @@ export async function startWarmUp(): Promise<WarmUpStatus> {
   const db = rawDb();
   const s = state(db);
   const look = currentLook(s);
+  watchWrites(s);
   const comparisons = readActiveComparisons(db);
   s.warm = { startedAt: Date.now(), finishedAt: null, ids: comparisons.map((c) => c.id), codes: new Map(comparisons.map((c) => [c.id, c.code])) };
   const builds = comparisons.map((c) => {
@@ -370,6 +381,7 @@ export function warmUpStatus(): WarmUpStatus {
 // (queued, sliced) when there is none or it no longer fits the settings or master data.
 async function keptFor(db: Database.Database, idOrCode: number | string, options: RunOptions): Promise<Kept | null> {
   const maxLagMs = options.maxLagMs ?? 0;
+  let yielded = false;
   for (;;) {
     const s = state(db);
     const look = currentLook(s);
@@ -378,6 +390,14 @@ async function keptFor(db: Database.Database, idOrCode: number | string, options
     const settingsKey = JSON.stringify(comparison);
     const kept = s.byId.get(comparison.id);
     if (kept && kept.settingsKey === settingsKey && kept.masterKey === look.masterKey) {
+      // A bounded reader about to patch lets waiting requests go first: an overview that
+      // finds many results past the bound then patches them one by one between requests,
+      // not all in one stretch of the thread.
+      if (maxLagMs > 0 && !yielded && !servable(kept, look, maxLagMs)) {
+        yielded = true;
+        await yieldToRequests();
+        continue;
+      }
       const current = bringUp(s, kept, look, maxLagMs);
       if (current) return current;
     }
@@ -405,6 +425,38 @@ function currentLook(s: ServiceState): Look {
 }
 
 const sameIds = (a: MaxIds, b: MaxIds) => a.tally === b.tally && a.units === b.units;
+
+// Whether the kept result may be served without a patch.
+function servable(kept: Kept, look: Look, maxLagMs: number): boolean {
+  return sameIds(kept.ids, look.ids) || Date.now() - kept.currentAt <= maxLagMs;
+}
+
+// Every WATCH_MS: when something was committed, look again and refresh what fell behind.
+function watchWrites(s: ServiceState): void {
+  if (s.watcher || s.dead) return;
+  s.watcher = setInterval(() => {
+    try {
+      if (s.dead || !s.db.open || holder.linemixMonitor !== s) {
+        if (s.watcher) clearInterval(s.watcher);
+        return;
+      }
+      const before = s.look;
+      const look = currentLook(s);
+      if (look === before) {
+        // Nothing committed since the last look: every result that held all entries still does.
+        for (const kept of s.byId.values()) if (sameIds(kept.ids, look.ids)) kept.currentAt = look.at;
+        return;
+      }
+      for (const kept of s.byId.values()) {
+        if (!sameIds(kept.ids, look.ids)) return schedulePass(s);
+        kept.currentAt = look.at;
+      }
+    } catch {
+      // A closed or unreadable database: the next read reports it.
+    }
+  }, WATCH_MS);
+  s.watcher.unref?.();
+}
 
 // The kept result if it may be served now (patched first when it is too far behind);
 // null when it must be rebuilt.
@@ -468,6 +520,9 @@ function schedulePass(s: ServiceState): void {
 }
 
 async function refreshPass(s: ServiceState): Promise<void> {
+  const started = performance.now();
+  let patched = 0;
+  let longest = 0;
   try {
     // The connection may have been closed (tests, a restore) without the state being replaced.
     if (s.dead || !s.db.open || holder.linemixMonitor !== s) return;
@@ -478,7 +533,11 @@ async function refreshPass(s: ServiceState): Promise<void> {
       const look = currentLook(s);
       if (s.byId.get(id) !== kept || sameIds(kept.ids, look.ids)) continue;
       try {
-        if (!patchNow(s, kept, base)) {
+        const t = performance.now();
+        const ok = patchNow(s, kept, base);
+        patched++;
+        longest = Math.max(longest, performance.now() - t);
+        if (!ok) {
           const comparison = comparisonOf(s, look, id);
           if (comparison) void requestBuild(s, comparison, look, JSON.stringify(comparison), false).catch(() => undefined);
         }
@@ -491,6 +550,9 @@ async function refreshPass(s: ServiceState): Promise<void> {
   } finally {
     s.lastPassAt = Date.now();
     s.passTimer = null;
+    if (SLOW_LOG_MS > 0 && patched > 0) {
+      console.warn(`[scan] ${new Date().toISOString()} refresh pass: ${patched} patched in ${(performance.now() - started).toFixed(0)} ms, longest ${longest.toFixed(0)} ms`);
+    }
   }
 }
 

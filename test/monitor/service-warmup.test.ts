@@ -200,6 +200,16 @@ describe("refresh policy", () => {
     expect(caughtUp.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
   }, 15_000);
 
+  it("after a start, kept results follow the entries with no read asking", async () => {
+    await startWarmUp();
+    insertTallies(rawDb(), ids, sheet("2025-08-06", "L02", "C", 4));
+    // The watcher looks every second and a pass follows at most REFRESH_EVERY_MS after the last.
+    await new Promise((r) => setTimeout(r, REFRESH_EVERY_MS + 2_500));
+    const run = (await runComparison("shifts", { maxLagMs: 60_000 }))!;
+    expect(run.computed).toMatchObject({ how: "patched", pendingEntries: 0 });
+    expect(run.windows).toEqual(scanWindows(currentRows(), { ...linesConfig, compare: "shift" }).windows);
+  }, 20_000);
+
   it("a bounded read past the bound brings the result up to date itself", async () => {
     await runComparison("lines");
     insertTallies(rawDb(), ids, sheet("2025-08-18", "L06", "A", 5));
