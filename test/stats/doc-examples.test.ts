@@ -8,6 +8,7 @@ import * as stats from "@/lib/stats";
 import * as monteCarlo from "@/lib/stats/monte-carlo";
 import * as patefield from "@/lib/stats/patefield";
 import * as permutationSampler from "@/lib/stats/permutation-sampler";
+import * as shuffleKernel from "@/lib/stats/shuffle-kernel";
 
 // Every @example in lib/stats ends in `expression; // value`; this runs each one
 // and checks the value, so the documentation cannot drift from the code.
@@ -39,7 +40,7 @@ function examples(): Example[] {
 }
 
 function evaluate(example: Example): unknown {
-  const scope: Record<string, unknown> = { ...monteCarlo, ...patefield, ...permutationSampler, ...stats, xoroshiro128plus, skipN };
+  const scope: Record<string, unknown> = { ...monteCarlo, ...patefield, ...permutationSampler, ...shuffleKernel, ...stats, xoroshiro128plus, skipN };
   const names = Object.keys(scope);
   const run = new Function(...names, `${example.setup.join("\n")}\nreturn (${example.expression});`);
   return run(...names.map((n) => scope[n]));

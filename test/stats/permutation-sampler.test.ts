@@ -6,7 +6,9 @@ import {
   createPermutationTableSampler,
   permutationLayout,
   PERMUTATION_SAMPLER_MAX_N,
+  useShuffleKernel,
 } from "@/lib/stats/permutation-sampler";
+import { createShuffleKernel, shuffleKernelBytes } from "@/lib/stats/shuffle-kernel";
 import { enumerateTables } from "./enumerate";
 
 type SamplerFactory = (rows: number[], columns: number[], seed: number) => RandomTableSampler;
@@ -116,6 +118,46 @@ describe("permutation sampler", () => {
     expect(() => createPermutationTableSampler([PERMUTATION_SAMPLER_MAX_N, 1], [1, PERMUTATION_SAMPLER_MAX_N], { seed: 1 })).toThrow(RangeError);
     expect(() => createPermutationTableSampler([1], [1, 0], { seed: 1 })).toThrow(/at least 2 rows/);
     expect(() => createPermutationTableSampler([2, 3], [4, 2], { seed: 1 })).toThrow(/sum to/);
+  });
+});
+
+describe("WebAssembly shuffle kernel", () => {
+  it("is valid WebAssembly and instantiates here (Node 20)", () => {
+    expect(WebAssembly.validate(shuffleKernelBytes())).toBe(true);
+    expect(createShuffleKernel()).not.toBeNull();
+    expect(useShuffleKernel(true)).toBe(true);
+  });
+
+  // The kernel is a transcription of the JavaScript loop: for every seed and
+  // margins they must draw the very same tables (so the distribution tests
+  // below, run with the kernel, cover both).
+  it("draws exactly the tables of the JavaScript shuffle, seed by seed (property)", () => {
+    const draw = (kernel: boolean, rows: number[], columns: number[], seed: number) => {
+      useShuffleKernel(kernel);
+      const sampler = createPermutationTableSampler(rows, columns, { seed });
+      const out = new Int32Array(rows.length * columns.length);
+      return Array.from({ length: 30 }, () => (sampler.sample(out), Array.from(out).join(",")));
+    };
+    try {
+      fc.assert(
+        fc.property(marginsArbitrary, fc.integer(), ({ rows, columns }, seed) => {
+          expect(draw(true, rows, columns, seed)).toEqual(draw(false, rows, columns, seed));
+        }),
+        { numRuns: 200 },
+      );
+      // Large n (many Lemire rejections) and the benchmark's shape.
+      const wide = Array.from({ length: 40 }, (_, j) => 20 + ((j * 37) % 90));
+      const total = wide.reduce((a, b) => a + b, 0);
+      const tall = Array.from({ length: 20 }, (_, i) => Math.floor(total / 20) + (i < total % 20 ? 1 : 0));
+      for (const [rows, columns] of [
+        [[7000, 9000], [6000, 10000]],
+        [tall, wide],
+      ]) {
+        expect(draw(true, rows, columns, 77)).toEqual(draw(false, rows, columns, 77));
+      }
+    } finally {
+      useShuffleKernel(true);
+    }
   });
 });
 
