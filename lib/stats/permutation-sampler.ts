@@ -24,14 +24,14 @@ export const PERMUTATION_SAMPLER_MAX_CELLS = 2 ** 14;
 // generator state there, and they go back to its own copies when another
 // sampler takes over, so interleaved samplers draw the same tables as
 // separate ones (JavaScript runs one sampler at a time; a worker thread has
-// its own module instance). 320 KB, allocated once (UNITS, META and CELLS
-// inside the kernel's 192 KB memory when there is one).
+// its own module instance). 320 KB, allocated once (inside the kernel's
+// memory when there is one).
 const MAX_N = PERMUTATION_SAMPLER_MAX_N;
 const MAX_CELLS = PERMUTATION_SAMPLER_MAX_CELLS;
 const MAX_LABELS = MAX_CELLS / 2; // every layout has at least 2 blocks
-// UNITS, META and CELLS live in the WebAssembly kernel's memory when there
-// is one (see shuffle-kernel.ts), so the kernel and the JavaScript loops
-// below work on the same arrays.
+// The workspace lives in the WebAssembly kernel's memory when there is one
+// (see shuffle-kernel.ts), so the kernel and the JavaScript loops below work
+// on the same arrays.
 const KERNEL = createShuffleKernel();
 const UNITS = KERNEL === null ? new Uint16Array(MAX_N) : new Uint16Array(KERNEL.memory.buffer, KERNEL_LAYOUT.units, MAX_N);
 const META = KERNEL === null ? new Int32Array(MAX_N) : new Int32Array(KERNEL.memory.buffer, KERNEL_LAYOUT.meta, MAX_N);
@@ -39,8 +39,10 @@ const CELLS = KERNEL === null ? new Uint16Array(MAX_CELLS) : new Uint16Array(KER
 // The kernel's generator state, s0 and s1 as little-endian i64: [s00, s01, s10, s11].
 const KERNEL_STATE = KERNEL === null ? new Int32Array(4) : new Int32Array(KERNEL.memory.buffer, KERNEL_LAYOUT.state, 4);
 let kernelEnabled = KERNEL !== null;
-const LABEL_SIZE = new Int32Array(MAX_LABELS);
-const WEIGHTS = new Float64Array(MAX_CELLS);
+const LABEL_SIZE = KERNEL === null ? new Int32Array(MAX_LABELS) : new Int32Array(KERNEL.memory.buffer, KERNEL_LAYOUT.labelSize, MAX_LABELS);
+const WEIGHTS = KERNEL === null ? new Float64Array(MAX_CELLS) : new Float64Array(KERNEL.memory.buffer, KERNEL_LAYOUT.weights, MAX_CELLS);
+// The last block's counts, as the kernel's tally leaves them.
+const KERNEL_LEFT = KERNEL === null ? new Uint16Array(MAX_LABELS) : new Uint16Array(KERNEL.memory.buffer, KERNEL_LAYOUT.left, MAX_LABELS);
 // The owner's xoroshiro128+ state [s01, s00, s11, s10] (longer than needed: V8
 // keeps typed arrays of up to 64 bytes on its heap, where they can move, and
 // then cannot fold their address into the code).
@@ -199,10 +201,20 @@ function shuffleInKernel(n: number, m: number): void {
   STATE[3] = KERNEL_STATE[2];
 }
 
+// tally, run by the WebAssembly kernel (the same operations in the same
+// order, so the same Σ w x² to the last bit).
+function tallyInKernel(labels: number, cells: number, out: Int32Array | undefined, caller: Int32Array): number {
+  const last = cells - labels;
+  if (out !== undefined) for (let k = 0; k < last; k++) out[caller[k]] = CELLS[k];
+  const sum = (KERNEL as NonNullable<typeof KERNEL>).tally(labels, cells);
+  if (out !== undefined) for (let t = 0; t < labels; t++) out[caller[last + t]] = KERNEL_LEFT[t];
+  return sum;
+}
+
 /**
- * Whether permutation samplers run their shuffle in the WebAssembly kernel
- * (the default where WebAssembly is available) or in JavaScript; both draw
- * the same tables for a seed. For tests and benchmarks. Returns whether the
+ * Whether permutation samplers run their shuffle and tally in the
+ * WebAssembly kernel (the default where WebAssembly is available) or in
+ * JavaScript; both draw the same tables and sums for a seed. For tests and benchmarks. Returns whether the
  * kernel is in use after the call (false where there is none).
  *
  * @example
@@ -269,6 +281,7 @@ function shuffleSingly(n: number, m: number, s01: number, s00: number, s11: numb
  */
 function tally(labels: number, cells: number, out: Int32Array | undefined, caller: Int32Array): number {
   const last = cells - labels;
+  if (kernelEnabled) return tallyInKernel(labels, cells, out, caller);
   if (out !== undefined) for (let k = 0; k < last; k++) out[caller[k]] = CELLS[k];
   const stride = 4 * labels;
   let s0 = 0;
@@ -341,10 +354,11 @@ function tally(labels: number, cells: number, out: Int32Array | undefined, calle
  * n = 5,000).
  * Why: a generator step costs about as much as a pick and its swap
  * together, so three picks per step nearly halve the time per unit.
- * The shuffle runs in a small WebAssembly kernel (shuffle-kernel.ts, the
- * same loop with 64-bit integers and no per-access checks) where
- * WebAssembly is available, else in JavaScript; the two draw the same
- * tables for a seed (the tests compare them table by table).
+ * The shuffle and the sum run in a small WebAssembly kernel
+ * (shuffle-kernel.ts, the same loops with 64-bit integers and no per-access
+ * checks) where WebAssembly is available, else in JavaScript; the two give
+ * the same tables and sums for a seed (the tests compare them table by
+ * table).
  *
  * Cost: O(n + r·c) setup and memory; per table m picks (about 1.6 ns each
  * in the kernel on a 2.6 GHz core, 3.5 ns in JavaScript) and O(r·c) to sum
@@ -436,6 +450,7 @@ export function createPermutationTableSampler(
   warmUp.sample(new Int32Array(12));
   warmUp.sample();
   kernelEnabled = kernel;
+  warmUp.sample(new Int32Array(12));
   warmUp.sample();
   owner = null;
 }

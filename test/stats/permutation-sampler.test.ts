@@ -128,15 +128,21 @@ describe("WebAssembly shuffle kernel", () => {
     expect(useShuffleKernel(true)).toBe(true);
   });
 
-  // The kernel is a transcription of the JavaScript loop: for every seed and
-  // margins they must draw the very same tables (so the distribution tests
-  // below, run with the kernel, cover both).
-  it("draws exactly the tables of the JavaScript shuffle, seed by seed (property)", () => {
+  // The kernel is a transcription of the JavaScript loops: for every seed and
+  // margins they must draw the very same tables and sums, to the last bit
+  // (so the distribution tests below, run with the kernel, cover both).
+  it("draws exactly the tables and Σ w x² of the JavaScript loops, seed by seed (property)", () => {
+    // Tables and Σ w x² (weights 1/E, as monteCarloPValue's), with and without an output buffer.
     const draw = (kernel: boolean, rows: number[], columns: number[], seed: number) => {
       useShuffleKernel(kernel);
-      const sampler = createPermutationTableSampler(rows, columns, { seed });
+      const n = rows.reduce((a, b) => a + b, 0);
+      const weights = Float64Array.from({ length: rows.length * columns.length }, (_, k) => {
+        const e = (rows[Math.floor(k / columns.length)] * columns[k % columns.length]) / n;
+        return e > 0 ? 1 / e : 0;
+      });
+      const sampler = createPermutationTableSampler(rows, columns, { seed, weights });
       const out = new Int32Array(rows.length * columns.length);
-      return Array.from({ length: 30 }, () => (sampler.sample(out), Array.from(out).join(",")));
+      return Array.from({ length: 30 }, (_, b) => (b % 2 === 0 ? `${sampler.sample(out)}:${Array.from(out).join(",")}` : `${sampler.sample()}`));
     };
     try {
       fc.assert(
