@@ -6,12 +6,15 @@
  * spread (p10–p90 of the batches) and the CPU time of the process are shown
  * too. Each Monte Carlo line names the sampler monteCarloPValue chose for the
  * table, and the next line times the other sampler on it, forced, for
- * comparison. If R is installed, R's chisq.test(simulate.p.value = TRUE,
- * B = 10000) is timed on the same table as well.
+ * comparison; when the permutation sampler was chosen, one more line times
+ * it with its JavaScript loops instead of the WebAssembly kernel. If R is
+ * installed, R's chisq.test(simulate.p.value = TRUE, B = 10000) is timed on
+ * the same table as well.
  */
 import { spawnSync } from "node:child_process";
 import { analyzeTable, exactPValue, monteCarloPValue } from "@/lib/stats";
 import { chooseTableSampler, monteCarloPValueBy, type TableSamplerMethod } from "@/lib/stats/monte-carlo";
+import { useShuffleKernel } from "@/lib/stats/permutation-sampler";
 
 interface Summary {
   median: number;
@@ -143,6 +146,11 @@ for (const [label, table] of [
   console.log(line(`monteCarloPValue 10,000 replicates, 20×40 ${label} (n = ${total(table)})`, "ms", mc.wall, 150, `; CPU median ${fmt(mc.cpu.median)} ms; ${chosen} sampler`));
   const other = benchMonteCarlo(table, 3, chosen === "permutation" ? "patefield" : "permutation");
   console.log(`${"".padEnd(58)} the same with the ${chosen === "permutation" ? "Patefield" : "permutation"} sampler forced: median ${fmt(other.wall.median)} ms, CPU median ${fmt(other.cpu.median)} ms (3 runs)`);
+  if (chosen === "permutation" && useShuffleKernel(false) === false) {
+    const plain = benchMonteCarlo(table, 3);
+    useShuffleKernel(true);
+    console.log(`${"".padEnd(58)} the same with the JavaScript loops instead of the WebAssembly kernel: median ${fmt(plain.wall.median)} ms, CPU median ${fmt(plain.cpu.median)} ms (3 runs)`);
+  }
   console.log(`${"".padEnd(58)} R chisq.test(simulate.p.value = TRUE, B = 10000) on the same table: ${timeR(table)}`);
 }
 console.log(line(`exactPValue, 3×4 (n = ${total(small)})`, "ms", benchExact(small), 5, "", ));
