@@ -68,17 +68,20 @@ function total(table: number[][]): number {
   return table.reduce((s, row) => s + row.reduce((a, b) => a + b, 0), 0);
 }
 
-/** Per-call microseconds: median over batches of `perBatch` calls. */
-function benchAnalyze(table: number[][]): Summary {
+/** Per-call microseconds: median over batches of `perBatch` calls, and the process's CPU time per call over all of them. */
+function benchAnalyze(table: number[][]): Summary & { cpuPerCall: number } {
   const perBatch = 200;
+  const batches = 400;
   for (let k = 0; k < 20_000; k++) analyzeTable(table); // warm-up: JIT and tables
   const samples: number[] = [];
-  for (let b = 0; b < 400; b++) {
+  const c0 = process.cpuUsage();
+  for (let b = 0; b < batches; b++) {
     const t0 = performance.now();
     for (let k = 0; k < perBatch; k++) analyzeTable(table);
     samples.push(((performance.now() - t0) * 1000) / perBatch);
   }
-  return summarize(samples);
+  const c = process.cpuUsage(c0);
+  return { ...summarize(samples), cpuPerCall: (c.user + c.system) / (batches * perBatch) };
 }
 
 /** monteCarloPValue as callers get it, or with one sampler forced (for comparison). */
@@ -134,7 +137,8 @@ const small = [
 ];
 
 console.log(`Node ${process.version}; each line: median and p10–p90 over batches or runs.`);
-console.log(line(`analyzeTable, 20×40 (n = ${total(pareto)}), per call`, "µs", benchAnalyze(pareto), 15));
+const analyze = benchAnalyze(pareto);
+console.log(line(`analyzeTable, 20×40 (n = ${total(pareto)}), per call`, "µs", analyze, 15, `; CPU ${fmt(analyze.cpuPerCall)} µs per call`));
 for (const [label, table] of [
   ["Pareto categories", pareto],
   ["flat categories", flat],
