@@ -8,15 +8,36 @@ import { namesFrom, type Names } from "./names";
 import { shapeOverview } from "./overview";
 import type { ReadingRateSignal } from "./reading";
 import type { RateWindow } from "@/lib/monitor/types";
-import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable } from "./source";
+import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable, type ComparisonRun } from "./source";
 import { shapeTimeline } from "./timeline";
 import { lastCompleteWeek, parseIsoWeek, shapeWeek, shiftWeek, type IsoWeekRef, type WeekCounts } from "./week";
 import { shapeWindow } from "./window";
+import { keptUntilWrite } from "./kept";
 
-/** Server-side loaders of the review pages: read, scan (cached), shape. */
+/**
+ * Server-side loaders of the review pages: read, scan (cached), shape. Each page's data
+ * is kept until the next write to the database (lib/review/kept.ts), so a repeated view
+ * costs no query and no shaping; the objects returned are shared: read them only.
+ */
 
-async function names(): Promise<Names> {
-  return namesFrom(await loadMasterData());
+/**
+ * Entries committed that the scan behind a page has not taken in yet: the service may
+ * hand a page a kept scan a few seconds behind the floor, brought up to date in the
+ * background. A page built from such a scan is shown but not kept.
+ */
+function pendingEntries(run: ComparisonRun): number {
+  return run.computed?.pendingEntries ?? 0;
+}
+
+const current = (data: { current: boolean } | null) => data === null || data.current;
+
+const keptPlant = keptUntilWrite(() => loadMasterData(), 1);
+const keptNames = keptUntilWrite(async () => namesFrom(await keptPlant("plant")), 1);
+const keptComparisons = keptUntilWrite(() => listComparisons(), 1);
+const keptComparison = keptUntilWrite((code) => getComparison(code), 64);
+
+function names(): Promise<Names> {
+  return keptNames("names");
 }
 
 /** The rate signals of one window: its rate test flagged, and these groups sat outside their u-chart limits. */
@@ -50,20 +71,39 @@ export async function episodeHrefs(code: string, episodes: readonly Episode[]): 
   return out;
 }
 
-export async function overviewData() {
-  const [comparisons, n] = await Promise.all([listComparisons(), names()]);
+/** The overview's rows, counts and data date (kept until the next write). */
+export function overviewData() {
+  return keptOverview("overview");
+}
+
+const keptOverview = keptUntilWrite(loadOverview, 1, current);
+
+async function loadOverview() {
+  const [comparisons, n] = await Promise.all([keptComparisons("all"), names()]);
   const inputs = [];
+  let behind = 0;
   for (const c of comparisons) {
     const run = await runComparison(c);
+    behind += pendingEntries(run);
     const signals = rateSignalsOf(run.rateWindows.at(-1) ?? null, c, n).map((s) => s.groupName);
     inputs.push({ comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals });
   }
   const last = lastDataDate();
-  return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null };
+  return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null, current: behind === 0 };
 }
 
-export async function timelineData(code: string, rateGroup: string | null = null) {
-  const c = await getComparison(code);
+/** One comparison's timeline, episodes and window lists; null when no such comparison (kept until the next write). */
+export function timelineData(code: string, rateGroup: string | null = null) {
+  return keptTimeline(JSON.stringify([code, rateGroup]));
+}
+
+const keptTimeline = keptUntilWrite((key) => {
+  const [code, rateGroup] = JSON.parse(key) as [string, string | null];
+  return loadTimeline(code, rateGroup);
+}, 16, current);
+
+async function loadTimeline(code: string, rateGroup: string | null) {
+  const c = await keptComparison(code);
   if (!c) return null;
   const n = await names();
   const run = await runComparison(c);
@@ -72,16 +112,37 @@ export async function timelineData(code: string, rateGroup: string | null = null
   const flagged = run.windows.filter((w) => w.flagged);
   const recent = run.windows.slice(-14).reverse();
   const hrefs = await episodeHrefs(c.code, run.episodes);
-  return { comparison: c, timeline, episodes: run.episodes, episodeHrefs: hrefs, flagged, recent, windows: run.windows, names: n };
+  return {
+    comparison: c,
+    timeline,
+    episodes: run.episodes,
+    episodeHrefs: hrefs,
+    flagged,
+    recent,
+    windows: run.windows,
+    names: n,
+    current: pendingEntries(run) === 0,
+  };
 }
 
-export async function windowData(code: string, start: string) {
-  const c = await getComparison(code);
+/** One window in full, its neighbours and episode; null when no such comparison (kept until the next write). */
+export function windowData(code: string, start: string) {
+  return keptWindow(JSON.stringify([code, start]));
+}
+
+const keptWindow = keptUntilWrite((key) => {
+  const [code, start] = JSON.parse(key) as [string, string];
+  return loadWindow(code, start);
+}, 32, current);
+
+async function loadWindow(code: string, start: string) {
+  const c = await keptComparison(code);
   if (!c) return null;
   const n = await names();
   const run = await runComparison(c);
   const index = run.windows.findIndex((w) => w.start === start);
-  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null };
+  const fresh = pendingEntries(run) === 0;
+  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null, current: fresh };
   const w = run.windows[index];
   const neighbours = {
     previous: index > 0 ? run.windows[index - 1].start : null,
@@ -90,9 +151,9 @@ export async function windowData(code: string, start: string) {
   const found = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
   const episode = found ? { start: found.start, end: found.end, href: (await episodeHrefs(c.code, [found])).get(found.start)! } : null;
   const detail = await windowTable(c, start);
-  if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode };
+  if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode, current: fresh };
   const signals = rateSignalsOf(detail.rateWindow, c, n);
-  return { comparison: c, view: shapeWindow(detail.table, n, signals), window: w, neighbours, episode };
+  return { comparison: c, view: shapeWindow(detail.table, n, signals), window: w, neighbours, episode, current: fresh };
 }
 
 function weekCounts(groupBy: "line" | "shift", week: IsoWeekRef, lines?: string[]): WeekCounts {
@@ -105,12 +166,23 @@ function weekCounts(groupBy: "line" | "shift", week: IsoWeekRef, lines?: string[
   };
 }
 
-export async function weekData(label: string | undefined) {
+/** The weekly review of an ISO week (the last complete one by default), kept until the next write. */
+export function weekData(label: string | undefined) {
+  // Today is part of the key: the default week and "is it in the future" move with it.
+  return keptWeek(JSON.stringify([label ?? null, localToday()]));
+}
+
+const keptWeek = keptUntilWrite((key) => {
+  const [label] = JSON.parse(key) as [string | null, string];
+  return loadWeek(label ?? undefined);
+}, 8);
+
+async function loadWeek(label: string | undefined) {
   const today = localToday();
   const fallback = lastCompleteWeek(today);
   const parsed = label ? parseIsoWeek(label) : null;
   const week = parsed ?? fallback;
-  const [n, plant, comparisons] = await Promise.all([names(), loadMasterData(), listComparisons()]);
+  const [n, plant, comparisons] = await Promise.all([names(), keptPlant("plant"), keptComparisons("all")]);
   const previous = shiftWeek(week, -1);
   const lineCodes = plant.lines.filter((l) => l.active).map((l) => l.code);
   const alpha = comparisons.find((c) => c.code === "lines")?.alpha ?? 0.05;
