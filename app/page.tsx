@@ -4,8 +4,11 @@ import { currentUser, requirePageUser } from "@/lib/auth/guard";
 import { addDays } from "@/lib/dates";
 import { overviewData } from "@/lib/review/pages";
 import { formatDay, formatP, formatRatio, formatSigned, formatV } from "@/lib/review/format";
+import { builtOncePer } from "@/lib/review/kept";
+import { html, type Markup } from "@/lib/review/markup";
 import type { OverviewRow } from "@/lib/review/overview";
-import { StateBadge } from "./components/review/state-badge";
+import { SoftLinks } from "./components/review/soft-links";
+import { StateBadge, stateBadgeMarkup } from "./components/review/state-badge";
 import "./components/review/review.css";
 
 export const dynamic = "force-dynamic";
@@ -42,7 +45,9 @@ export default async function OverviewPage() {
               <li key={r.code} className="card wall-card" data-testid="flagged-card">
                 <StateBadge state="flagged" large />
                 <h3>
-                  <Link href={`/comparisons/${encodeURIComponent(r.code)}`}>{r.name}</Link>
+                  <Link href={`/comparisons/${encodeURIComponent(r.code)}`} prefetch={false}>
+                    {r.name}
+                  </Link>
                 </h3>
                 <p className="wall-since">
                   {r.flaggedDays} {r.flaggedDays === 1 ? "day" : "days"}, since {r.flaggedSince ? formatDay(r.flaggedSince) : "—"}
@@ -56,11 +61,19 @@ export default async function OverviewPage() {
                   </p>
                 ) : null}
                 <p className="wall-links">
-                  {r.latest ? <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.latest.start}`}>Latest window</Link> : null}
-                  {r.openEpisode ? (
-                    <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.openEpisode.peakStart}`}>Strongest window of the episode</Link>
+                  {r.latest ? (
+                    <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.latest.start}`} prefetch={false}>
+                      Latest window
+                    </Link>
                   ) : null}
-                  <Link href={`/episodes?comparison=${encodeURIComponent(r.code)}`}>Flagged-period record</Link>
+                  {r.openEpisode ? (
+                    <Link href={`/comparisons/${encodeURIComponent(r.code)}/windows/${r.openEpisode.peakStart}`} prefetch={false}>
+                      Strongest window of the episode
+                    </Link>
+                  ) : null}
+                  <Link href={`/episodes?comparison=${encodeURIComponent(r.code)}`} prefetch={false}>
+                    Flagged-period record
+                  </Link>
                 </p>
               </li>
             ))}
@@ -77,7 +90,9 @@ export default async function OverviewPage() {
                 {recent.map((r, k) => (
                   <span key={r.code}>
                     {k ? "; " : ""}
-                    <Link href={`/comparisons/${encodeURIComponent(r.code)}`}>{r.name}</Link> ({r.lastEpisode!.range})
+                    <Link href={`/comparisons/${encodeURIComponent(r.code)}`} prefetch={false}>
+                    {r.name}
+                  </Link> ({r.lastEpisode!.range})
                   </span>
                 ))}
                 .
@@ -89,90 +104,42 @@ export default async function OverviewPage() {
 
       <section aria-labelledby="all-heading">
         <h2 id="all-heading">All comparisons</h2>
-        <div className="table-scroll">
-          <table className="data overview-table">
-            <thead>
-              <tr>
-                <th scope="col">State</th>
-                <th scope="col">Comparison</th>
-                <th scope="col">Latest window</th>
-                <th scope="col" className="num nowrap">
-                  Adj. p
-                </th>
-                <th scope="col" className="num">
-                  V
-                </th>
-                <th scope="col">Flagged for</th>
-                <th scope="col">Strongest cell</th>
-                <th scope="col">Defect rate</th>
-                <th scope="col" className="num">
-                  Episodes
-                </th>
-              </tr>
-            </thead>
-            <tbody>
-              {data.rows.map((r) => (
-                <OverviewTableRow key={r.code} row={r} />
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <SoftLinks className="table-scroll" html={overviewTable(data.rows)} />
         <p className="muted">
           Adj. p: the window&apos;s p-value adjusted across all windows of the comparison. V: bias-corrected Cramér&apos;s V, 0 for
-          identical mixes. <Link href="/week">Weekly review</Link>
+          identical mixes.{" "}
+          <Link href="/week" prefetch={false}>
+            Weekly review
+          </Link>
         </p>
       </section>
     </>
   );
 }
 
-function OverviewTableRow({ row: r }: { row: OverviewRow }) {
-  const href = `/comparisons/${encodeURIComponent(r.code)}`;
-  return (
-    <tr data-comparison={r.code} data-state={r.state}>
-      <td>
-        <StateBadge state={r.state} />
-      </td>
-      <td>
-        <Link href={href}>{r.name}</Link>
-      </td>
-      <td>
-        {r.latest ? (
-          <>
-            <Link href={`${href}/windows/${r.latest.start}`} className="nowrap-link">
-              {r.latest.range}
-            </Link>
-            {r.latest.reason ? <div className="muted small">{r.latest.reason}</div> : null}
-          </>
-        ) : (
-          <span className="muted">history shorter than one window</span>
-        )}
-      </td>
-      <td className="num">{r.latest ? formatP(r.latest.adjustedPValue) : "—"}</td>
-      <td className="num">{r.latest ? formatV(r.latest.cramersV) : "—"}</td>
-      <td>
-        {r.flaggedDays !== null ? (
-          <>
-            {r.flaggedDays} {r.flaggedDays === 1 ? "day" : "days"}
-          </>
-        ) : r.lastEpisode ? (
-          <span className="muted small">last: {r.lastEpisode.range}</span>
-        ) : (
-          "—"
-        )}
-      </td>
-      <td>
-        {r.topDriver ? (
-          <>
-            {r.topDriver.rowName} × {r.topDriver.categoryName}{" "}
-            <span className="num">({formatSigned(r.topDriver.adjustedResidual)})</span>
-          </>
-        ) : (
-          "—"
-        )}
-      </td>
-      <td>{r.rateSignals.length ? <span className="rate-flag">Rate signal: {r.rateSignals.join(", ")}</span> : <span className="muted">within limits</span>}</td>
-      <td className="num">{r.episodes}</td>
-    </tr>
-  );
+/** The table of every comparison, built once per kept overview (lib/review/kept.ts). */
+const overviewTable = builtOncePer((rows: readonly OverviewRow[]) => overviewMarkup(rows).html);
+
+/** Every comparison's row as markup (lib/review/markup); its links navigate through SoftLinks. */
+function overviewMarkup(rows: readonly OverviewRow[]): Markup {
+  const body = rows.map((r) => {
+    const href = `/comparisons/${encodeURIComponent(r.code)}`;
+    const latest = r.latest
+      ? html`<a href="${href}/windows/${r.latest.start}" class="nowrap-link">${r.latest.range}</a>${r.latest.reason ? html`<div class="muted small">${r.latest.reason}</div>` : ""}`
+      : html`<span class="muted">history shorter than one window</span>`;
+    const flaggedFor =
+      r.flaggedDays !== null
+        ? `${r.flaggedDays} ${r.flaggedDays === 1 ? "day" : "days"}`
+        : r.lastEpisode
+          ? html`<span class="muted small">last: ${r.lastEpisode.range}</span>`
+          : "—";
+    const driver = r.topDriver
+      ? html`${r.topDriver.rowName} × ${r.topDriver.categoryName} <span class="num">(${formatSigned(r.topDriver.adjustedResidual)})</span>`
+      : "—";
+    const rate = r.rateSignals.length
+      ? html`<span class="rate-flag">Rate signal: ${r.rateSignals.join(", ")}</span>`
+      : html`<span class="muted">within limits</span>`;
+    return html`<tr data-comparison="${r.code}" data-state="${r.state}"><td>${stateBadgeMarkup(r.state)}</td><td><a href="${href}">${r.name}</a></td><td>${latest}</td><td class="num">${r.latest ? formatP(r.latest.adjustedPValue) : "—"}</td><td class="num">${r.latest ? formatV(r.latest.cramersV) : "—"}</td><td>${flaggedFor}</td><td>${driver}</td><td>${rate}</td><td class="num">${r.episodes}</td></tr>`;
+  });
+  return html`<table class="data overview-table"><thead><tr><th scope="col">State</th><th scope="col">Comparison</th><th scope="col">Latest window</th><th scope="col" class="num nowrap">Adj. p</th><th scope="col" class="num">V</th><th scope="col">Flagged for</th><th scope="col">Strongest cell</th><th scope="col">Defect rate</th><th scope="col" class="num">Episodes</th></tr></thead><tbody>${body}</tbody></table>`;
 }

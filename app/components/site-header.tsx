@@ -24,7 +24,7 @@ export async function SiteHeader() {
   const openEpisodes = items.some((item) => item.href === "/episodes") ? await openEpisodeCount() : null;
   return (
     <header className="site-header">
-      <Link href={me ? home : "/signin"} className="brand" aria-label="Linemix home">
+      <Link prefetch={false} href={me ? home : "/signin"} className="brand" aria-label="Linemix home">
         <span className="brand-mark" aria-hidden="true">
           ▚
         </span>
@@ -35,7 +35,7 @@ export async function SiteHeader() {
           <ul>
             {items.map((item) => (
               <li key={item.href}>
-                <Link href={item.href}>
+                <Link prefetch={false} href={item.href}>
                   {item.label}
                   {item.href === "/episodes" && openEpisodes !== null && " "}
                   {item.href === "/episodes" && openEpisodes !== null && (

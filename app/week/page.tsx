@@ -47,8 +47,8 @@ export default async function WeekPage({ searchParams }: Search) {
           </div>
           <button type="submit">Show</button>
           <PrintButton />
-          <Link href={`/week?week=${r.previousWeek.label}`}>← {r.previousWeek.label}</Link>
-          <Link href={`/week?week=${data.next.label}`}>{data.next.label} →</Link>
+          <Link prefetch={false} href={`/week?week=${r.previousWeek.label}`}>← {r.previousWeek.label}</Link>
+          <Link prefetch={false} href={`/week?week=${data.next.label}`}>{data.next.label} →</Link>
           <span id="week-hint" className="muted small">
             Format YYYY-Www; default {data.defaultWeek}, the last complete week.
           </span>
@@ -219,7 +219,7 @@ export default async function WeekPage({ searchParams }: Search) {
                   <TestCell t={s.previous} />
                 </td>
                 <td className="no-print">
-                  <Link href={`/comparisons/shifts-${encodeURIComponent(s.line)}`}>rolling windows</Link>
+                  <Link prefetch={false} href={`/comparisons/shifts-${encodeURIComponent(s.line)}`}>rolling windows</Link>
                 </td>
               </tr>
             ))}
@@ -233,7 +233,7 @@ export default async function WeekPage({ searchParams }: Search) {
         system, customer requirements and local regulations.
       </div>
       <p className="no-print">
-        <Link href="/">Back to the overview</Link>
+        <Link prefetch={false} href="/">Back to the overview</Link>
       </p>
     </div>
   );

@@ -35,6 +35,8 @@ export interface HeatScale {
 
 export interface HeatCell {
   value: number;
+  /** Index of the cell's class in the scale, 0 (strongest "fewer") to 8 (strongest "more"): the CSS class heat-k0…heat-k8. */
+  index: number;
   fill: string;
   text: string;
   /** Beyond ±critical. */
@@ -106,29 +108,33 @@ export function heatScale(critical: number): HeatScale {
 
 /** The class holding a value; a value exactly on an edge belongs to the class nearer 0 (as "beyond" is strict). */
 export function classOf(scale: HeatScale, value: number): HeatClass {
+  return scale.classes[classIndex(scale, value)];
+}
+
+function classIndex(scale: HeatScale, value: number): number {
   const a = Math.abs(value);
   // Count how many edges |value| reaches; the same count on either side gives mirrored classes.
   let steps = 0;
   for (const e of scale.edges) if (a > e) steps++;
   const middle = (scale.classes.length - 1) / 2;
-  const index = value >= 0 ? middle + steps : middle - steps;
-  return scale.classes[index];
+  return value >= 0 ? middle + steps : middle - steps;
 }
 
 export function heatCell(scale: HeatScale, value: number): HeatCell {
-  const c = classOf(scale, value);
+  const index = classIndex(scale, value);
+  const c = scale.classes[index];
   const beyond = Math.abs(value) > scale.critical;
   const marker = beyond ? (value > 0 ? "▲" : "▼") : "";
   const printed = signedText(value);
   const sense = value > 0 ? "more than expected" : value < 0 ? "fewer than expected" : "as expected";
   const description = `${printed}, ${sense}${beyond ? `, beyond ±${scale.critical.toFixed(2)}` : ""}`;
-  return { value, fill: c.fill, text: c.text, beyond, marker, printed, description };
+  return { value, index, fill: c.fill, text: c.text, beyond, marker, printed, description };
 }
 
 /** Legend entries from most negative to most positive, with the marker rule spelled out. */
-export function heatLegend(scale: HeatScale): { classes: { fill: string; text: string; label: string }[]; note: string } {
+export function heatLegend(scale: HeatScale): { classes: { index: number; fill: string; text: string; label: string }[]; note: string } {
   return {
-    classes: scale.classes.map((c) => ({ fill: c.fill, text: c.text, label: c.label })),
+    classes: scale.classes.map((c, index) => ({ index, fill: c.fill, text: c.text, label: c.label })),
     note: `▲ more and ▼ fewer than expected, beyond the critical value ±${scale.critical.toFixed(2)} (Bonferroni over the table's cells).`,
   };
 }

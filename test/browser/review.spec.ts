@@ -60,7 +60,7 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   await episode.locator("td").nth(2).getByRole("link").click();
   await expect(page).toHaveURL(/\/comparisons\/lines\/windows\/\d{4}-\d{2}-\d{2}$/);
   await expect(page.locator('.state[data-state="flagged"]').first()).toBeVisible();
-  const cell = page.locator('td.heat-cell[data-row="P3"][data-category="seal-leak"]');
+  const cell = page.locator('table.heat td[data-row="P3"][data-category="seal-leak"]');
   await expect(cell).toHaveAttribute("data-beyond", "true");
   await expect(cell).toContainText("▲");
   await expect(cell).toContainText("+");

@@ -2,14 +2,19 @@ import type { Metadata } from "next";
 import Link from "next/link";
 import { notFound } from "next/navigation";
 import { requirePageUser } from "@/lib/auth/guard";
-import { formatP, formatRange, formatSigned, formatV } from "@/lib/review/format";
+import { formatNumber, formatP, formatRange, formatSigned, formatV } from "@/lib/review/format";
+import { builtOncePer } from "@/lib/review/kept";
+import { html, type Markup } from "@/lib/review/markup";
 import { kindLabel } from "@/lib/review/names";
 import { stateOf } from "@/lib/review/overview";
 import { timelineData } from "@/lib/review/pages";
 import type { ScanWindow } from "@/lib/monitor/types";
 import { RateChart } from "../../components/charts/rate-chart";
 import { TimelineChart } from "../../components/charts/timeline-chart";
-import { StateBadge } from "../../components/review/state-badge";
+import { rateFirstPaint, timelineFirstPaint } from "../../components/charts/timeline-frame";
+import { rateSeriesOf, timelineSeries } from "../../components/charts/timeline-series";
+import { SoftLinks } from "../../components/review/soft-links";
+import { StateBadge, stateBadgeMarkup } from "../../components/review/state-badge";
 import { SettingsSummary } from "../../components/review/settings-summary";
 import "../../components/review/review.css";
 
@@ -24,6 +29,29 @@ export async function generateMetadata({ params }: Params): Promise<Metadata> {
 
 const one = (v: string | string[] | undefined) => (Array.isArray(v) ? v[0] : v);
 
+type Data = NonNullable<Awaited<ReturnType<typeof timelineData>>>;
+
+/** What the charts and window lists draw, built once per kept timeline (lib/review/kept.ts). */
+const drawn = builtOncePer((data: Data) => {
+  const { timeline } = data;
+  const base = `/comparisons/${encodeURIComponent(data.comparison.code)}`;
+  const series = timeline.points.length ? timelineSeries(timeline) : null;
+  const rate = timeline.rate ? rateSeriesOf(timeline.rate.points, timeline.ticks, [timeline.xMin, timeline.xMax]) : null;
+  const rateGroup = timeline.rate?.groups.find((g) => g.code === timeline.rate!.selected);
+  const paint = series ? timelineFirstPaint(series, timeline.summary) : null;
+  return {
+    series,
+    firstPaint: paint ? { evidence: paint.evidence.html, effect: paint.effect.html } : { evidence: "", effect: "" },
+    rate,
+    rateFirstPaint: rate ? rateFirstPaint(rate, `Defects per unit, ${rateGroup?.name ?? timeline.rate!.selected}, with u-chart limits`).html : "",
+    recent: windowTable(data.recent, base).html,
+    flagged: windowTable([...data.flagged].reverse(), base).html,
+  };
+});
+
+/** Every window, newest first (?all=1), built once per kept timeline. */
+const allWindows = builtOncePer((data: Data) => windowTable([...data.windows].reverse(), `/comparisons/${encodeURIComponent(data.comparison.code)}`).html);
+
 export default async function TimelinePage({ params, searchParams }: Params) {
   const { code: raw } = await params;
   const sp = await searchParams;
@@ -36,15 +64,19 @@ export default async function TimelinePage({ params, searchParams }: Params) {
   const latest = data.windows.at(-1);
   const base = `/comparisons/${encodeURIComponent(c.code)}`;
   const rowName = (r: string) => names.row(c.compare, r, c.historyWeeks);
+  const { series, firstPaint, rate, rateFirstPaint: ratePaint, recent, flagged } = drawn(data);
   return (
     <>
       <p className="crumbs">
-        <Link href="/">Overview</Link> / {c.name}
+        <Link href="/" prefetch={false}>
+          Overview
+        </Link>{" "}
+        / {c.name}
       </p>
       <div className="page-head">
         <h1>{c.name}</h1>
         <p>
-          <Link href={`${base}/settings`} className="button secondary">
+          <Link href={`${base}/settings`} className="button secondary" prefetch={false}>
             Settings
           </Link>
         </p>
@@ -53,7 +85,11 @@ export default async function TimelinePage({ params, searchParams }: Params) {
         {kindLabel(c.compare, c.lines, names)}. Now: <StateBadge state={stateOf(latest)} />{" "}
         {latest ? (
           <>
-            latest window <Link href={`${base}/windows/${latest.start}`}>{formatRange(latest.start, latest.end)}</Link>, adjusted p{" "}
+            latest window{" "}
+            <Link href={`${base}/windows/${latest.start}`} prefetch={false}>
+              {formatRange(latest.start, latest.end)}
+            </Link>
+            , adjusted p{" "}
             {formatP(latest.adjustedPValue)}, V {formatV(latest.cramersVCorrected)}.
           </>
         ) : (
@@ -64,7 +100,7 @@ export default async function TimelinePage({ params, searchParams }: Params) {
 
       <figure className="chart-card" aria-labelledby="evidence-heading">
         <h2 id="evidence-heading">Evidence and effect size, window by window</h2>
-        {timeline.points.length ? <TimelineChart code={c.code} data={timeline} /> : <p>No windows yet.</p>}
+        {series ? <TimelineChart code={c.code} series={series} firstPaint={firstPaint} /> : <p>No windows yet.</p>}
         <figcaption>
           <span className="key-line" aria-hidden="true" /> −log₁₀ of the adjusted p (higher is stronger evidence; p below 10⁻⁵⁰ is drawn at the top) ·{" "}
           <span className="key-dash" aria-hidden="true" /> the α line: a window above it flags ·{" "}
@@ -73,10 +109,15 @@ export default async function TimelinePage({ params, searchParams }: Params) {
         </figcaption>
       </figure>
 
-      {timeline.rate ? (
+      {timeline.rate && rate ? (
         <figure className="chart-card" aria-labelledby="rate-heading">
           <h2 id="rate-heading">Defects per unit, group by group</h2>
-          <RateChart panel={timeline.rate} ticks={timeline.ticks} xMin={timeline.xMin} xMax={timeline.xMax} />
+          <RateChart
+            groups={timeline.rate.groups}
+            selected={timeline.rate.selected}
+            series={rate}
+            firstPaint={ratePaint}
+          />
           <figcaption>
             The mix test above says nothing about the rate. Here each group&apos;s defects per unit over the same windows, with u-chart limits
             around the window&apos;s pooled rate of all compared groups. Windows with a rate signal (rate test flagged, group outside its limits):{" "}
@@ -106,7 +147,9 @@ export default async function TimelinePage({ params, searchParams }: Params) {
                     <td>{formatRange(e.start, e.end)}</td>
                     <td className="num">{e.windows}</td>
                     <td>
-                      <Link href={`${base}/windows/${e.peak.start}`}>{formatRange(e.peak.start, e.peak.end)}</Link>
+                      <Link href={`${base}/windows/${e.peak.start}`} prefetch={false}>
+                        {formatRange(e.peak.start, e.peak.end)}
+                      </Link>
                     </td>
                     <td className="num">{formatP(e.peak.adjustedPValue)}</td>
                     <td>
@@ -117,7 +160,9 @@ export default async function TimelinePage({ params, searchParams }: Params) {
                       ))}
                     </td>
                     <td>
-                      <Link href={data.episodeHrefs.get(e.start) ?? `/episodes?comparison=${encodeURIComponent(c.code)}`}>Flagged-period record</Link>
+                      <Link href={data.episodeHrefs.get(e.start) ?? `/episodes?comparison=${encodeURIComponent(c.code)}`} prefetch={false}>
+                        Flagged-period record
+                      </Link>
                     </td>
                   </tr>
                 ))}
@@ -132,21 +177,23 @@ export default async function TimelinePage({ params, searchParams }: Params) {
       <section aria-labelledby="windows-heading">
         <h2 id="windows-heading">Windows</h2>
         <h3>Latest 14</h3>
-        <WindowTable windows={data.recent} base={base} />
+        <SoftLinks className="table-scroll" html={recent} />
         {data.flagged.length ? (
           <>
             <h3>Flagged ({data.flagged.length})</h3>
-            <WindowTable windows={[...data.flagged].reverse()} base={base} />
+            <SoftLinks className="table-scroll" html={flagged} />
           </>
         ) : null}
         {showAll ? (
           <>
             <h3>All {data.windows.length} windows, newest first</h3>
-            <WindowTable windows={[...data.windows].reverse()} base={base} />
+            <SoftLinks className="table-scroll" html={allWindows(data)} />
           </>
         ) : (
           <p>
-            <Link href={`${base}?all=1#windows-heading`}>Show all {data.windows.length} windows</Link>
+            <Link href={`${base}?all=1#windows-heading`} prefetch={false}>
+              Show all {data.windows.length} windows
+            </Link>
           </p>
         )}
       </section>
@@ -154,41 +201,11 @@ export default async function TimelinePage({ params, searchParams }: Params) {
   );
 }
 
-function WindowTable({ windows, base }: { windows: ScanWindow[]; base: string }) {
-  return (
-    <div className="table-scroll">
-      <table className="data">
-        <thead>
-          <tr>
-            <th scope="col">Window</th>
-            <th scope="col">State</th>
-            <th scope="col" className="num">Defects</th>
-            <th scope="col" className="num">X²</th>
-            <th scope="col" className="num">df</th>
-            <th scope="col" className="num">p</th>
-            <th scope="col" className="num">Adj. p</th>
-            <th scope="col" className="num">V</th>
-          </tr>
-        </thead>
-        <tbody>
-          {windows.map((w) => (
-            <tr key={w.start} className={w.flagged ? "row-flagged" : undefined}>
-              <td>
-                <Link href={`${base}/windows/${w.start}`}>{formatRange(w.start, w.end)}</Link>
-              </td>
-              <td>
-                <StateBadge state={stateOf(w)} />
-              </td>
-              <td className="num">{w.n.toLocaleString("en-GB")}</td>
-              <td className="num">{w.chiSquare === null ? "—" : w.chiSquare.toFixed(1)}</td>
-              <td className="num">{w.df ?? "—"}</td>
-              <td className="num">{formatP(w.pValue)}</td>
-              <td className="num">{formatP(w.adjustedPValue)}</td>
-              <td className="num">{formatV(w.cramersVCorrected)}</td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+/** The window list as markup (lib/review/markup): with ?all=1 it holds every window of the scan. */
+function windowTable(windows: readonly ScanWindow[], base: string): Markup {
+  const rows = windows.map(
+    (w) =>
+      html`<tr${w.flagged ? html` class="row-flagged"` : ""}><td><a href="${base}/windows/${w.start}">${formatRange(w.start, w.end)}</a></td><td>${stateBadgeMarkup(stateOf(w))}</td><td class="num">${formatNumber(w.n)}</td><td class="num">${w.chiSquare === null ? "—" : w.chiSquare.toFixed(1)}</td><td class="num">${w.df ?? "—"}</td><td class="num">${formatP(w.pValue)}</td><td class="num">${formatP(w.adjustedPValue)}</td><td class="num">${formatV(w.cramersVCorrected)}</td></tr>`,
   );
+  return html`<table class="data"><thead><tr><th scope="col">Window</th><th scope="col">State</th><th scope="col" class="num">Defects</th><th scope="col" class="num">X²</th><th scope="col" class="num">df</th><th scope="col" class="num">p</th><th scope="col" class="num">Adj. p</th><th scope="col" class="num">V</th></tr></thead><tbody>${rows}</tbody></table>`;
 }

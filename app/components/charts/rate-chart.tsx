@@ -1,12 +1,23 @@
 "use client";
 
 import { usePathname, useRouter, useSearchParams } from "next/navigation";
-import { useId, useTransition } from "react";
-import { CartesianGrid, ComposedChart, Line, Tooltip, XAxis, YAxis, type DotItemDotProps, type TooltipContentProps } from "recharts";
-import type { RatePanel, RatePanelPoint } from "@/lib/review/timeline";
+import { useCallback, useId, useMemo, useRef, useTransition } from "react";
+import { CartesianGrid, ComposedChart, Line, Scatter, Tooltip, XAxis, YAxis, type TooltipContentProps } from "recharts";
 import { CHART } from "./palette";
+import { gridAt, tickFormat } from "./scale";
+import { RATE_PANEL, type RateSeries } from "./timeline-series";
+import { useWidth } from "./use-width";
 
-type Point = RatePanelPoint;
+interface Row {
+  i: number;
+  x: number;
+  u: number | null;
+  centre: number | null;
+  upper: number | null;
+  lower: number | null;
+}
+
+const isoOf = (day: number) => new Date(day * 86_400_000).toISOString().slice(0, 10);
 
 /**
  * Defects per unit of one group per window, with the u-chart centre line (the window's
@@ -14,23 +25,51 @@ type Point = RatePanelPoint;
  * move with the units inspected). Outside the limits: a filled square where the window's
  * rate test flagged, a hollow one otherwise. The select picks the group through the URL
  * (?rate=CODE), so only one group's series travels to the browser; groups with signals
- * are listed first.
+ * are listed first. Until hydrated and measured it shows `firstPaint`, the same chart
+ * drawn on the server.
  */
-export function RateChart({ panel, ticks, xMin, xMax }: { panel: RatePanel; ticks: { x: number; label: string }[]; xMin: number; xMax: number }) {
-  const ordered = [...panel.groups].sort((a, b) => b.signals - a.signals);
+export function RateChart({
+  groups,
+  selected,
+  series,
+  firstPaint,
+}: {
+  groups: { code: string; name: string; signals: number }[];
+  selected: string;
+  series: RateSeries;
+  firstPaint: string;
+}) {
+  const ordered = useMemo(() => [...groups].sort((a, b) => b.signals - a.signals), [groups]);
   const router = useRouter();
   const pathname = usePathname();
   const search = useSearchParams();
   const [pending, startTransition] = useTransition();
   const id = useId();
-  const group = panel.groups.find((g) => g.code === panel.selected) ?? ordered[0];
+  const ref = useRef<HTMLDivElement>(null);
+  // Lower on the page: interactive a frame after the timeline, showing its first paint meanwhile.
+  const width = useWidth(ref, true);
+  const rows = useMemo<Row[]>(
+    () => series.x.map((x, i) => ({ i, x, u: series.u[i], centre: series.centre[i], upper: series.upper[i], lower: series.lower[i] })),
+    [series],
+  );
+  const tooltip = useCallback((props: TooltipContentProps) => <RateTooltip {...props} series={series} />, [series]);
+  // Windows outside the limits as Scatters of their own few points (filled where the rate
+  // test flagged too, hollow otherwise), not a dot renderer called for every window.
+  const outside = useMemo(() => {
+    const flagged = new Set(series.rateFlagged);
+    const points = [...series.above, ...series.below].map((i) => rows[i]).filter((r) => r.u !== null);
+    return { flagged: points.filter((r) => flagged.has(r.i)), only: points.filter((r) => !flagged.has(r.i)) };
+  }, [series, rows]);
+  const group = groups.find((g) => g.code === selected) ?? ordered[0];
   if (!group) return null;
   const choose = (code: string) => {
     const next = new URLSearchParams(search.toString());
     next.set("rate", code);
     startTransition(() => router.replace(`${pathname}?${next.toString()}`, { scroll: false }));
   };
-  const tickLabel = (x: number) => ticks.find((t) => t.x === x)?.label ?? "";
+  const tickLabel = (x: number) => series.xTicks.find((t) => t.x === x)?.label ?? "";
+  const grid = gridAt(series.y.ticks, series.y.domain);
+  const axisTick = { fill: CHART.axis, fontSize: 12 };
   return (
     <div data-chart="rate">
       <div className="field inline-field no-print">
@@ -44,22 +83,39 @@ export function RateChart({ panel, ticks, xMin, xMax }: { panel: RatePanel; tick
           ))}
         </select>
       </div>
-      <ComposedChart
-        data={panel.points}
-        responsive
-        style={{ width: "100%", height: 220 }}
-        margin={{ top: 10, right: 16, bottom: 4, left: 4 }}
-        title={`Defects per unit, ${group.name}, with u-chart limits`}
-      >
-        <CartesianGrid stroke={CHART.grid} vertical={false} />
-        <XAxis dataKey="x" type="number" domain={[xMin, xMax]} ticks={ticks.map((t) => t.x)} tickFormatter={tickLabel} tick={{ fill: CHART.axis, fontSize: 12 }} allowDataOverflow />
-        <YAxis width={70} tick={{ fill: CHART.axis, fontSize: 12 }} tickFormatter={(v: number) => v.toFixed(4)} domain={["auto", "auto"]} />
-        <Tooltip content={RateTooltip} />
-        <Line dataKey="upper" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Upper limit" />
-        <Line dataKey="lower" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Lower limit" />
-        <Line dataKey="centre" stroke={CHART.limit} strokeWidth={1} dot={false} isAnimationActive={false} name="Centre" />
-        <Line dataKey="u" stroke={CHART.structure} strokeWidth={1.5} dot={SignalDot} isAnimationActive={false} name="Defects per unit" />
-      </ComposedChart>
+      {width === null || width === 0 ? (
+        <div ref={ref} dangerouslySetInnerHTML={{ __html: firstPaint }} />
+      ) : (
+        <div ref={ref}>
+          <ComposedChart
+            data={rows}
+            width={width}
+            height={RATE_PANEL.height}
+            margin={{ top: RATE_PANEL.top, right: RATE_PANEL.right, bottom: RATE_PANEL.bottom, left: RATE_PANEL.left - 70 }}
+            title={`Defects per unit, ${group.name}, with u-chart limits`}
+          >
+            <CartesianGrid stroke={CHART.grid} vertical={false} horizontalCoordinatesGenerator={grid.horizontal} verticalCoordinatesGenerator={grid.vertical} />
+            <XAxis
+              dataKey="x"
+              type="number"
+              domain={series.xDomain}
+              ticks={series.xTicks.map((t) => t.x)}
+              interval={0}
+              tickFormatter={tickLabel}
+              tick={axisTick}
+              allowDataOverflow
+            />
+            <YAxis width={70} tick={axisTick} tickFormatter={tickFormat(series.y.ticks)} domain={series.y.domain} ticks={series.y.ticks} interval={0} allowDataOverflow />
+            <Tooltip content={tooltip} />
+            <Line dataKey="upper" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Upper limit" />
+            <Line dataKey="lower" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Lower limit" />
+            <Line dataKey="centre" stroke={CHART.limit} strokeWidth={1} dot={false} isAnimationActive={false} name="Centre" />
+            <Line dataKey="u" stroke={CHART.structure} strokeWidth={1.5} dot={false} isAnimationActive={false} name="Defects per unit" />
+            <Scatter data={outside.flagged} dataKey="u" shape={FilledSquare} isAnimationActive={false} tooltipType="none" legendType="none" />
+            <Scatter data={outside.only} dataKey="u" shape={HollowSquare} isAnimationActive={false} tooltipType="none" legendType="none" />
+          </ComposedChart>
+        </div>
+      )}
       <p className="chart-key">
         <span className="key-line" aria-hidden="true" /> defects per unit · <span className="key-dash" aria-hidden="true" /> u-chart limits (±3σ) ·{" "}
         <span className="key-square" aria-hidden="true" /> outside the limits, rate test flagged · <span className="key-hollow" aria-hidden="true" /> outside the limits only
@@ -68,32 +124,36 @@ export function RateChart({ panel, ticks, xMin, xMax }: { panel: RatePanel; tick
   );
 }
 
-function SignalDot(props: DotItemDotProps) {
-  const p = props.payload as Point | undefined;
-  const { cx, cy } = props as unknown as { cx?: number; cy?: number };
-  if (!p || !p.outside || cx === undefined || cy === undefined) return null;
-  // Filled square: outside the limits in a window whose rate test flagged; hollow: outside the limits only.
-  return p.windowFlagged ? (
-    <rect key={props.index} x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal={p.outside} />
-  ) : (
-    <rect key={props.index} x={cx - 3} y={cy - 3} width={6} height={6} fill="#fff" stroke={CHART.signal} strokeWidth={1.2} />
-  );
+/** Outside the limits in a window whose rate test flagged. */
+function FilledSquare(props: unknown) {
+  const { cx, cy } = props as { cx?: number; cy?: number };
+  if (cx === undefined || cy === undefined) return <g />;
+  return <rect x={cx - 3.5} y={cy - 3.5} width={7} height={7} fill={CHART.signal} data-signal="true" />;
 }
 
-function RateTooltip(props: TooltipContentProps) {
+/** Outside the limits only. */
+function HollowSquare(props: unknown) {
+  const { cx, cy } = props as { cx?: number; cy?: number };
+  if (cx === undefined || cy === undefined) return <g />;
+  return <rect x={cx - 3} y={cy - 3} width={6} height={6} fill="#fff" stroke={CHART.signal} strokeWidth={1.2} />;
+}
+
+function RateTooltip(props: TooltipContentProps & { series: RateSeries }) {
   if (!props.active || !props.payload?.length) return null;
-  const p = props.payload[0]?.payload as Point | undefined;
+  const p = props.payload[0]?.payload as Row | undefined;
   if (!p) return null;
+  const s = props.series;
   const f = (x: number | null) => (x === null ? "—" : x.toFixed(5));
+  const outside = s.above.includes(p.i) ? "above" : s.below.includes(p.i) ? "below" : null;
   return (
     <div className="chart-tooltip">
-      <strong>Window ending {p.end}</strong>
+      <strong>Window ending {isoOf(p.x)}</strong>
       <div>defects per unit {f(p.u)}</div>
       <div>
         limits {f(p.lower)} – {f(p.upper)} (centre {f(p.centre)})
       </div>
-      {p.outside ? <div>{p.outside === "above" ? "Above the upper limit" : "Below the lower limit"}</div> : null}
-      {p.windowFlagged ? <div>Rate test flagged this window</div> : null}
+      {outside ? <div>{outside === "above" ? "Above the upper limit" : "Below the lower limit"}</div> : null}
+      {s.rateFlagged.includes(p.i) ? <div>Rate test flagged this window</div> : null}
     </div>
   );
 }

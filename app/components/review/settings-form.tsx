@@ -183,7 +183,7 @@ export function SettingsForm({
         <button type="submit" disabled={pending}>
           {pending ? "Saving…" : "Save settings"}
         </button>
-        <Link href={`/comparisons/${encodeURIComponent(code)}`}>Back to the timeline</Link>
+        <Link prefetch={false} href={`/comparisons/${encodeURIComponent(code)}`}>Back to the timeline</Link>
       </p>
     </form>
   );

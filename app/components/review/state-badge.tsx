@@ -1,3 +1,4 @@
+import { html, type Markup } from "@/lib/review/markup";
 import type { ComparisonState } from "@/lib/review/overview";
 
 const ICON: Record<ComparisonState, string> = { flagged: "▲", quiet: "✓", untestable: "○" };
@@ -11,4 +12,14 @@ export function StateBadge({ state, large = false }: { state: ComparisonState; l
       {LABEL[state]}
     </span>
   );
+}
+
+/**
+ * StateBadge as markup, for the tables built with lib/review/markup.
+ *
+ * @example
+ * stateBadgeMarkup("quiet").html; // '<span class="state state-quiet" data-state="quiet"><span aria-hidden="true">✓</span>Quiet</span>'
+ */
+export function stateBadgeMarkup(state: ComparisonState): Markup {
+  return html`<span class="state state-${state}" data-state="${state}"><span aria-hidden="true">${ICON[state]}</span>${LABEL[state]}</span>`;
 }

@@ -25,7 +25,7 @@ export default async function SettingsPage({ params }: Params) {
   return (
     <>
       <p className="crumbs">
-        <Link href="/">Overview</Link> / <Link href={base}>{c.name}</Link> / Settings
+        <Link prefetch={false} href="/">Overview</Link> / <Link prefetch={false} href={base}>{c.name}</Link> / Settings
       </p>
       <h1>Settings: {c.name}</h1>
       <p className="lede">

@@ -3,13 +3,17 @@ import Link from "next/link";
 import { notFound } from "next/navigation";
 import { requirePageUser } from "@/lib/auth/guard";
 import { isIsoDate } from "@/lib/dates";
-import { formatExpected, formatNumber, formatP, formatPercent, formatRange, formatV } from "@/lib/review/format";
+import { formatNumber, formatP, formatPercent, formatRange, formatV } from "@/lib/review/format";
+import { builtOncePer } from "@/lib/review/kept";
+import { html } from "@/lib/review/markup";
 import { windowData } from "@/lib/review/pages";
 import type { WindowView } from "@/lib/review/window";
-import { ContributionChart } from "../../../../components/charts/contribution-chart";
-import { MixChart } from "../../../../components/charts/mix-chart";
-import { ParetoSvg } from "../../../../components/charts/pareto-svg";
-import { HeatmapTable } from "../../../../components/review/heatmap-table";
+import { contributionSvg } from "../../../../components/charts/contribution-svg";
+import { mixLegend, mixSvg } from "../../../../components/charts/mix-svg";
+import { paretoFigures } from "../../../../components/charts/pareto-svg";
+import { countsMarkup } from "../../../../components/review/counts-table";
+import { heatmapMarkup } from "../../../../components/review/heatmap-table";
+import { StaticMarkup } from "../../../../components/review/static-markup";
 import { ReadingBlock } from "../../../../components/review/reading-block";
 import { SettingsSummary } from "../../../../components/review/settings-summary";
 import { StateBadge } from "../../../../components/review/state-badge";
@@ -38,11 +42,11 @@ export default async function WindowPage({ params }: Params) {
     return (
       <>
         <p className="crumbs">
-          <Link href="/">Overview</Link> / <Link href={base}>{c.name}</Link>
+          <Link prefetch={false} href="/">Overview</Link> / <Link prefetch={false} href={base}>{c.name}</Link>
         </p>
         <h1>No window starts on {start}</h1>
         <p>
-          The scan of this comparison has no window starting that day. <Link href={base}>Back to the timeline</Link>.
+          The scan of this comparison has no window starting that day. <Link prefetch={false} href={base}>Back to the timeline</Link>.
         </p>
       </>
     );
@@ -50,18 +54,18 @@ export default async function WindowPage({ params }: Params) {
   const view = data.view;
   const nav = (
     <nav className="window-nav" aria-label="Windows">
-      {data.neighbours?.previous ? <Link href={`${base}/windows/${data.neighbours.previous}`}>← Previous window</Link> : null}
-      {data.neighbours?.next ? <Link href={`${base}/windows/${data.neighbours.next}`}>Next window →</Link> : null}
-      <Link href={base}>Timeline</Link>
+      {data.neighbours?.previous ? <Link prefetch={false} href={`${base}/windows/${data.neighbours.previous}`}>← Previous window</Link> : null}
+      {data.neighbours?.next ? <Link prefetch={false} href={`${base}/windows/${data.neighbours.next}`}>Next window →</Link> : null}
+      <Link prefetch={false} href={base}>Timeline</Link>
       {data.episode ? (
-        <Link href={data.episode.href}>Episode {formatRange(data.episode.start, data.episode.end)}: record</Link>
+        <Link prefetch={false} href={data.episode.href}>Episode {formatRange(data.episode.start, data.episode.end)}: record</Link>
       ) : null}
     </nav>
   );
   return (
     <>
       <p className="crumbs">
-        <Link href="/">Overview</Link> / <Link href={base}>{c.name}</Link> / {formatRange(w.start, w.end)}
+        <Link prefetch={false} href="/">Overview</Link> / <Link prefetch={false} href={base}>{c.name}</Link> / {formatRange(w.start, w.end)}
       </p>
       <div className="page-head">
         <h1>
@@ -77,15 +81,25 @@ export default async function WindowPage({ params }: Params) {
         <section className="card">
           <h2>Not testable</h2>
           <p>{w.reason ?? "Too few counts in this window."}</p>
-          <p className="muted">{w.n.toLocaleString("en-GB")} defects were recorded in the window.</p>
+          <p className="muted">{formatNumber(w.n)} defects were recorded in the window.</p>
         </section>
       )}
     </>
   );
 }
 
+/** The screen's tables and charts as markup, built once per kept view (lib/review/kept.ts). */
+const staticParts = builtOncePer((view: WindowView) => ({
+  heatmap: heatmapMarkup(view),
+  counts: countsMarkup(view),
+  contribution: contributionSvg(view.contributions, "Share of the chi-square carried by each cell, largest first"),
+  mix: html`${mixSvg(view.mix.series, view.mix.bars, "Mix of defect categories per group, percent of the group's defects")}${mixLegend(view.mix.series)}`,
+  pareto: paretoFigures(view.pareto),
+}));
+
 function WindowBody({ view }: { view: WindowView }) {
   const s = view.stats;
+  const parts = staticParts(view);
   return (
     <>
       {view.baselineRange ? (
@@ -97,7 +111,7 @@ function WindowBody({ view }: { view: WindowView }) {
 
       <section aria-labelledby="heat-heading">
         <h2 id="heat-heading">Where the mix differs: adjusted residuals</h2>
-        <HeatmapTable view={view} />
+        <StaticMarkup as="figure" className="heatmap" data-testid="heatmap" markup={parts.heatmap} />
       </section>
 
       <section aria-labelledby="counts-heading">
@@ -105,52 +119,13 @@ function WindowBody({ view }: { view: WindowView }) {
         <p className="muted small" id="counts-note">
           Each cell: the observed count, and below it the count expected if every row had the table&apos;s overall mix.
         </p>
-        <div className="table-scroll">
-          <table className="data counts" data-testid="counts" aria-describedby="counts-note">
-            <thead>
-              <tr>
-                <th scope="col">Observed / expected</th>
-                {view.columns.map((c) => (
-                  <th scope="col" key={c.code} className="num">
-                    {c.name}
-                  </th>
-                ))}
-                <th scope="col" className="num">Total</th>
-              </tr>
-            </thead>
-            <tbody>
-              {view.rows.map((r, i) => (
-                <tr key={r.code}>
-                  <th scope="row">{r.name}</th>
-                  {view.columns.map((c, j) => (
-                    <td key={c.code} className={`num${view.heat[i][j].beyond ? " cell-beyond" : ""}`}>
-                      {formatNumber(view.observed[i][j])}
-                      <span className="count-expected">{formatExpected(view.expected[i][j])}</span>
-                    </td>
-                  ))}
-                  <td className="num">{formatNumber(r.total)}</td>
-                </tr>
-              ))}
-              <tr>
-                <th scope="row">Total</th>
-                {view.columns.map((c) => (
-                  <td key={c.code} className="num">
-                    {formatNumber(c.total)}
-                  </td>
-                ))}
-                <td className="num">{formatNumber(s.n)}</td>
-              </tr>
-            </tbody>
-          </table>
-        </div>
+        <StaticMarkup className="table-scroll" markup={parts.counts} />
       </section>
 
       <div className="two-col">
         <figure className="chart-card" aria-labelledby="contrib-heading">
           <h2 id="contrib-heading">Which cells carry the chi-square</h2>
-          <ContributionChart
-            bars={view.contributions.map((b) => ({ label: b.label, percent: 100 * b.share, residual: b.residual, beyond: b.beyond }))}
-          />
+          <StaticMarkup data-chart="contribution" markup={parts.contribution} />
           <figcaption>
             ▲ solid: more than expected; ▼ outlined: fewer; faded: within ±{view.critical.toFixed(2)}.{" "}
             {view.contributions
@@ -162,30 +137,14 @@ function WindowBody({ view }: { view: WindowView }) {
         </figure>
         <figure className="chart-card" aria-labelledby="mix-heading">
           <h2 id="mix-heading">Each group&apos;s mix</h2>
-          <MixChart series={view.mix.series} bars={view.mix.bars} />
-          <figcaption>Percent of each group&apos;s defects by category; the counts are in the table above.</figcaption>
+          <StaticMarkup data-chart="mix" markup={parts.mix} />
+          <figcaption>Percent of each group&apos;s defects by category (printed where the segment is wide enough); the counts are in the table above.</figcaption>
         </figure>
       </div>
 
       <section aria-labelledby="pareto-heading">
         <h2 id="pareto-heading">Pareto chart per group</h2>
-        <div className="pareto-grid">
-          {view.pareto.map((p) => (
-            <figure key={p.row} className="chart-card">
-              <h3>{p.name}</h3>
-              <div data-chart="pareto">
-                <ParetoSvg name={p.name} bars={p.bars} />
-              </div>
-              <figcaption>
-                Largest: {p.bars
-                  .slice(0, 3)
-                  .map((b) => `${b.category} ${b.count}`)
-                  .join(", ")}
-                .
-              </figcaption>
-            </figure>
-          ))}
-        </div>
+        <StaticMarkup className="pareto-grid" markup={parts.pareto} />
       </section>
 
       <div className="two-col">
