@@ -1,6 +1,24 @@
 import { monitorEventLoopDelay } from "node:perf_hooks";
 
 /**
+ * Before the server takes requests: the default comparisons on a fresh database. Created
+ * here rather than by the warm-up or the first page because each creation is a Prisma
+ * transaction, and a floor POST writing on the raw connection while one is open waits on
+ * the same thread for the busy timeout (5 s) and fails with SQLITE_BUSY — seen in
+ * bench:load when the warm-up created them with the probes already posting.
+ */
+export async function prepareServer(): Promise<void> {
+  if (process.env.LINEMIX_WARM_UP === "0") return;
+  try {
+    const { ensureDefaultComparisons } = await import("./lib/db/comparisons");
+    await ensureDefaultComparisons();
+  } catch (error) {
+    // A read-only or unreadable database: the pages report it.
+    console.error(`default comparisons not created at start: ${error instanceof Error ? error.message : String(error)}`);
+  }
+}
+
+/**
  * Work a Node.js server starts beside answering requests (called from instrumentation.ts):
  *
  * - the scan warm-up: every saved comparison's scan is built in the background
@@ -28,9 +46,7 @@ async function warmUp(): Promise<void> {
   const delay = monitorEventLoopDelay({ resolution: 10 });
   delay.enable();
   try {
-    const { ensureDefaultComparisons } = await import("./lib/db/comparisons");
     const { startWarmUp } = await import("./lib/monitor/service");
-    await ensureDefaultComparisons();
     const status = await startWarmUp();
     const used = process.cpuUsage(cpu);
     console.log(

@@ -164,19 +164,23 @@ const quantile = (values: number[], q: number) => {
 const fmt = (n: number, width: number, digits = 0) => n.toFixed(digits).padStart(width);
 
 /** node:http with no timeout: a cold first page may take minutes, past fetch's header timeout. */
-function slowRequest(target: string, options: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<{ status: number; body: string }> {
+function slowRequest(target: string, options: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<{ status: number; body: string; location?: string }> {
   return new Promise((resolve, reject) => {
     const req = httpRequest(target, { method: options.method ?? "GET", headers: options.headers ?? {} }, (res) => {
       const chunks: Buffer[] = [];
       res.on("data", (c: Buffer) => chunks.push(c));
-      res.on("end", () => resolve({ status: res.statusCode ?? 0, body: Buffer.concat(chunks).toString() }));
+      res.on("end", () => resolve({ status: res.statusCode ?? 0, body: Buffer.concat(chunks).toString(), location: res.headers.location }));
     });
     req.on("error", reject);
     req.end(options.body);
   });
 }
 
-const slowGet = async (target: string, cookie: string) => (await slowRequest(target, { headers: { cookie } })).status;
+const slowGet = async (target: string, cookie: string) => {
+  const r = await slowRequest(target, { headers: { cookie } });
+  if (r.status !== 200) console.error(`GET ${target}: HTTP ${r.status}${r.location ? ` → ${r.location}` : ""}`);
+  return r.status;
+};
 
 type Call = { method: string; path: string; headers: Record<string, string>; body?: string };
 
