@@ -153,7 +153,9 @@ export function* liveScanSteps(
   const units = createCube(first, cube.days, cube.groups, ["units"]);
   yield* inSlices("units", units.days, 28, sliceMs, (d0, n) => addCurrentUnits(db, spec, dayView(units, d0, n)));
   const { mix, rates } = plansOf(comparison, master, cube, units);
-  yield* inSlices("windows", mix.starts.length, 4, sliceMs, (lo, n) => retestWindows(mix, lo, lo + n));
+  // Windows one at a time with the clock read after each: a sparse window's exact or Monte
+  // Carlo test can cost a hundred times its neighbours', so a size learnt from them overshoots.
+  yield* oneAtATime("windows", mix.starts.length, sliceMs, (k) => retestWindows(mix, k, k + 1));
   yield* inSlices("rates", rates.starts.length, 16, sliceMs, (lo, n) => retestRates(rates, lo, lo + n));
   return { comparison, master, spec, mix, rates };
 }
@@ -179,6 +181,16 @@ function* inSlices(
     const ms = performance.now() - t;
     done += count;
     if (Number.isFinite(sliceMs)) size = Math.max(1, Math.min(4 * count, Math.floor((count * sliceMs) / Math.max(ms, 0.01))));
+    yield { phase, done, total };
+  }
+}
+
+function* oneAtATime(phase: BuildStep["phase"], total: number, sliceMs: number, run: (k: number) => void): Generator<BuildStep, void, void> {
+  let done = 0;
+  while (done < total) {
+    const t = performance.now();
+    do run(done++);
+    while (done < total && performance.now() - t < sliceMs);
     yield { phase, done, total };
   }
 }
