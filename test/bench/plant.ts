@@ -7,6 +7,9 @@ import { openSqlite } from "../../lib/db/client";
 
 export const PLANT = { days: 730, lines: 12, shifts: 3, categories: 25 } as const;
 
+/** A plant's size; bench:pages may ask for fewer days or lines (BENCH_DAYS, BENCH_LINES) while trying things out. */
+export type PlantSize = { days: number; lines: number; shifts: number; categories: number };
+
 /** Small deterministic generator (mulberry32) in [0, 1). */
 export function rng(seed: number): () => number {
   let a = seed >>> 0;
@@ -37,8 +40,8 @@ export function poisson(u: () => number, mean: number): number {
  * A/B/C, categories K01…K25, and PLANT.days days up to yesterday. Returns the last day
  * and the number of tallies written.
  */
-export function buildPlant(url: string): { firstDay: string; lastDay: string; tallies: number } {
-  const { days: DAYS, lines: LINES, shifts: SHIFTS, categories: CATEGORIES } = PLANT;
+export function buildPlant(url: string, size: PlantSize = PLANT): { firstDay: string; lastDay: string; tallies: number } {
+  const { days: DAYS, lines: LINES, shifts: SHIFTS, categories: CATEGORIES } = size;
   const sqlite = openSqlite(url);
   const lastDay = addDays(localToday(), -1);
   const firstDay = addDays(lastDay, -(DAYS - 1));
