@@ -62,7 +62,8 @@ export interface Computed {
 export interface RunOptions {
   /**
    * How far behind the committed entries a kept result may be and still be served as it
-   * stands, in ms (the background refresh brings it up to date soon after). 0 (the
+   * stands, in ms (the background refresh brings it up to date soon after; between the
+   * bound and HARD_LAG_FACTOR times it, that refresh starts at once). 0 (the
    * default): fresh — entries committed before the call are in the answer. Pages pass
    * {@link PAGE_MAX_LAG_MS}. Settings or master-data changes are never served stale.
    */
@@ -72,7 +73,8 @@ export interface RunOptions {
 /**
  * The staleness bound the review pages read with: a kept result is served up to 15 s
  * behind the floor's entries, and says so (computed.asOf, computed.pendingEntries).
- * Beyond that a page read brings it up to date itself.
+ * Past it the background refresh is started at once and the result still served, up to
+ * HARD_LAG_FACTOR × the bound (a minute); beyond that a page read brings it up to date itself.
  *
  * @example
  * await runComparison("lines", { maxLagMs: PAGE_MAX_LAG_MS }); // kept result, maybe a few entries behind
@@ -91,6 +93,18 @@ export const REFRESH_EVERY_MS = 3_000;
 
 /** A build hands the JavaScript thread back to waiting requests after about this much work. */
 const SLICE_MS = 15;
+
+/**
+ * A bounded read past its bound but within this many times it is still served as it
+ * stands (the refresh pass is started at once); beyond, the read patches for itself.
+ *
+ * @example
+ * HARD_LAG_FACTOR * PAGE_MAX_LAG_MS; // 60000: no page shows a scan more than a minute behind
+ */
+export const HARD_LAG_FACTOR = 4;
+
+/** A refresh pass hands the thread back to requests after about this much patching. */
+const PASS_TURN_MS = 30;
 
 /** How often a server looks for commits (two pragma reads) to refresh kept results with no read asking. */
 const WATCH_MS = 1_000;
@@ -170,6 +184,8 @@ interface ServiceState {
   lastPassAt: number;
   /** Looks for commits every WATCH_MS once a server started the warm-up (see watchWrites). */
   watcher: ReturnType<typeof setInterval> | null;
+  /** A refresh pass is under way. */
+  passing: boolean;
   /** Set when the state is replaced (another database, forgetKeptResults): running work stops. */
   dead: boolean;
 }
@@ -194,6 +210,7 @@ function state(db: Database.Database): ServiceState {
       passTimer: null,
       lastPassAt: 0,
       watcher: null,
+      passing: false,
       dead: false,
     };
   }
@@ -428,7 +445,7 @@ const sameIds = (a: MaxIds, b: MaxIds) => a.tally === b.tally && a.units === b.u
 
 // Whether the kept result may be served without a patch.
 function servable(kept: Kept, look: Look, maxLagMs: number): boolean {
-  return sameIds(kept.ids, look.ids) || Date.now() - kept.currentAt <= maxLagMs;
+  return sameIds(kept.ids, look.ids) || Date.now() - kept.currentAt <= HARD_LAG_FACTOR * maxLagMs;
 }
 
 // Every WATCH_MS: when something was committed, look again and refresh what fell behind.
@@ -465,8 +482,16 @@ function bringUp(s: ServiceState, kept: Kept, look: Look, maxLagMs: number): Kep
     kept.currentAt = look.at;
     return kept;
   }
-  if (Date.now() - kept.currentAt <= maxLagMs) {
+  const lag = Date.now() - kept.currentAt;
+  if (lag <= maxLagMs) {
     schedulePass(s);
+    return kept;
+  }
+  // Past the bound but within HARD_LAG_FACTOR times it: the pass starts now and the page
+  // shows how far behind it is. A saturated server runs its passes slowly, and every
+  // overview patching 26 scans itself would make it slower still.
+  if (lag <= HARD_LAG_FACTOR * maxLagMs) {
+    schedulePass(s, true);
     return kept;
   }
   return patchNow(s, kept);
@@ -511,9 +536,13 @@ function patchNow(s: ServiceState, kept: Kept, base: CountBase | null = null): K
 
 // One background pass over the kept results that entries have left behind, at most one
 // per REFRESH_EVERY_MS, yielding to requests between comparisons.
-function schedulePass(s: ServiceState): void {
-  if (s.passTimer || s.dead) return;
-  const wait = Math.max(0, s.lastPassAt + REFRESH_EVERY_MS - Date.now());
+function schedulePass(s: ServiceState, now = false): void {
+  if (s.dead || s.passing) return;
+  if (s.passTimer) {
+    if (!now) return;
+    clearTimeout(s.passTimer);
+  }
+  const wait = now ? 0 : Math.max(0, s.lastPassAt + REFRESH_EVERY_MS - Date.now());
   // A failing pass (a closed or unreadable database) leaves the results to the next read.
   s.passTimer = setTimeout(() => void refreshPass(s).catch(() => undefined), wait);
   s.passTimer.unref?.();
@@ -523,6 +552,8 @@ async function refreshPass(s: ServiceState): Promise<void> {
   const started = performance.now();
   let patched = 0;
   let longest = 0;
+  s.passing = true;
+  let turn = performance.now();
   try {
     // The connection may have been closed (tests, a restore) without the state being replaced.
     if (s.dead || !s.db.open || holder.linemixMonitor !== s) return;
@@ -545,9 +576,15 @@ async function refreshPass(s: ServiceState): Promise<void> {
         // Left for the next read to report (a busy or unreadable database).
         s.byId.delete(id);
       }
-      await yieldToRequests();
+      // Several patches per turn of the event loop (each is a few ms): on a saturated
+      // server every turn is long, and one patch per turn would stretch a pass to many seconds.
+      if (performance.now() - turn >= PASS_TURN_MS) {
+        await yieldToRequests();
+        turn = performance.now();
+      }
     }
   } finally {
+    s.passing = false;
     s.lastPassAt = Date.now();
     s.passTimer = null;
     if (SLOW_LOG_MS > 0 && patched > 0) {

@@ -15,6 +15,7 @@ import { rawDb } from "@/lib/db/client";
 import { scanHistory, scanWindows, type ScanConfig, type TallyRow } from "@/lib/monitor";
 import {
   forgetKeptResults,
+  HARD_LAG_FACTOR,
   REFRESH_EVERY_MS,
   runAllComparisons,
   runComparison,
@@ -210,11 +211,27 @@ describe("refresh policy", () => {
     expect(run.windows).toEqual(scanWindows(currentRows(), { ...linesConfig, compare: "shift" }).windows);
   }, 20_000);
 
-  it("a bounded read past the bound brings the result up to date itself", async () => {
+  it("a bounded read just past the bound is served as it stands and starts the refresh at once", async () => {
+    await runComparison("lines");
+    insertTallies(rawDb(), ids, sheet("2025-08-13", "L06", "B", 6));
+    await new Promise((r) => setTimeout(r, 300));
+    // 300 ms behind: past a 100 ms bound, within HARD_LAG_FACTOR × 100 ms.
+    const stale = (await runComparison("lines", { maxLagMs: 100 }))!;
+    expect(stale.computed).toMatchObject({ how: "kept", pendingEntries: categories.length });
+    // Started at once, not after REFRESH_EVERY_MS.
+    await new Promise((r) => setTimeout(r, 500));
+    expect(REFRESH_EVERY_MS).toBeGreaterThan(500);
+    const after = (await runComparison("lines", { maxLagMs: 100_000 }))!;
+    expect(after.computed.pendingEntries).toBe(0);
+    expect(after.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
+  });
+
+  it("a bounded read past HARD_LAG_FACTOR × the bound brings the result up to date itself", async () => {
     await runComparison("lines");
     insertTallies(rawDb(), ids, sheet("2025-08-18", "L06", "A", 5));
     await new Promise((r) => setTimeout(r, 30));
-    const run = (await runComparison("lines", { maxLagMs: 10 }))!;
+    expect(HARD_LAG_FACTOR * 5).toBeLessThan(30);
+    const run = (await runComparison("lines", { maxLagMs: 5 }))!;
     expect(run.computed).toMatchObject({ how: "patched", pendingEntries: 0 });
     expect(run.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
   });
