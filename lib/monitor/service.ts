@@ -284,6 +284,36 @@ export async function runComparison(idOrCode: number | string, options: RunOptio
 }
 
 /**
+ * {@link runComparison} without waiting: the kept result (brought up to date as `options`
+ * ask, like runComparison) when the comparison's scan is built for its current settings,
+ * else null — and then its build is queued behind the others if nothing is building it
+ * yet. For a page shown during the warm-up after a start: it draws what is ready and
+ * says the rest is being computed instead of holding the request for every build.
+ * Undefined when no such comparison exists.
+ *
+ * Cost: as a kept runComparison (two pragma reads; a patch only past HARD_LAG_FACTOR × the bound).
+ *
+ * @example
+ * void startWarmUp(); runComparisonIfReady("lines"); // null while its build is under way
+ * await startWarmUp(); runComparisonIfReady("lines")?.computed.how; // "built"
+ */
+export function runComparisonIfReady(idOrCode: number | string, options: RunOptions = {}): ComparisonRun | null | undefined {
+  const s = state(rawDb());
+  const look = currentLook(s);
+  const comparison = comparisonOf(s, look, idOrCode);
+  if (!comparison) return undefined;
+  const settingsKey = JSON.stringify(comparison);
+  const kept = s.byId.get(comparison.id);
+  if (kept && kept.settingsKey === settingsKey && kept.masterKey === look.masterKey) {
+    const current = bringUp(s, kept, look, options.maxLagMs ?? 0);
+    if (current) return serve(current);
+  }
+  // Queued or running already: requestBuild hands back that build; a failure is left for runComparison to report.
+  void requestBuild(s, comparison, look, settingsKey, false).catch(() => undefined);
+  return null;
+}
+
+/**
  * {@link runComparison} for every active comparison, in display order (the overview);
  * each one served from its kept result when nothing changed. A comparison that names a
  * line, shift or category that no longer exists comes back not testable, with the reason

@@ -19,6 +19,7 @@ import {
   REFRESH_EVERY_MS,
   runAllComparisons,
   runComparison,
+  runComparisonIfReady,
   scanProblem,
   startWarmUp,
   warmUpStatus,
@@ -130,6 +131,34 @@ describe("warm-up", () => {
     expect(last!.episodes).toEqual(reference.episodes);
     await warm;
     expect(warmUpStatus().state).toBe("ready");
+  });
+
+  it("runComparisonIfReady answers at once: the kept result when built, else null (never waits for a build)", async () => {
+    const warm = startWarmUp();
+    await nextImmediate();
+    // Nothing built yet: null without waiting, for every comparison; an unknown code is undefined.
+    expect(runComparisonIfReady("history-L06")).toBeNull();
+    expect(runComparisonIfReady("lines")).toBeNull();
+    expect(runComparisonIfReady("no-such-comparison")).toBeUndefined();
+    // Part-way: some ready, some not, and what is ready equals what runComparison gives.
+    while (warmUpStatus().ready < 2) await nextImmediate();
+    const status = warmUpStatus();
+    expect(status.state).toBe("warming");
+    const answers = ["lines", "shifts", ...lines.map((l) => `history-${l}`)].map((code) => runComparisonIfReady(code));
+    expect(answers.filter((a) => a !== null).length).toBeGreaterThanOrEqual(status.ready);
+    expect(answers.some((a) => a === null)).toBe(true);
+    const ready = answers.find((a) => a !== null)!;
+    expect(ready.windows).toEqual((await runComparison(ready.comparison.code))!.windows);
+    await warm;
+    expect(runComparisonIfReady("history-L06")!.computed.pendingEntries).toBe(0);
+  });
+
+  it("runComparisonIfReady queues the build of a comparison nobody is building (no warm-up started)", async () => {
+    expect(runComparisonIfReady("shifts")).toBeNull();
+    // Its build was queued in the background: it turns up without any request waiting for it.
+    for (let k = 0; k < 100_000 && !runComparisonIfReady("shifts"); k++) await nextImmediate();
+    const run = runComparisonIfReady("shifts")!;
+    expect(run.windows).toEqual((await runComparison("shifts"))!.windows);
   });
 
   it("a build in small slices equals the build in one go", () => {
