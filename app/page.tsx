@@ -9,6 +9,9 @@ import { html, type Markup } from "@/lib/review/markup";
 import type { OverviewRow } from "@/lib/review/overview";
 import { SoftLinks } from "./components/review/soft-links";
 import { StateBadge, stateBadgeMarkup } from "./components/review/state-badge";
+import { FreshnessNote } from "./components/review/freshness-note";
+import { WarmUpRefresh } from "./components/review/warm-up-refresh";
+import { warmUpText } from "@/lib/review/freshness";
 import "./components/review/review.css";
 
 export const dynamic = "force-dynamic";
@@ -33,9 +36,20 @@ export default async function OverviewPage() {
         <p className="lede">
           Every saved comparison, as of its latest window
           {data.lastDateText ? <> (data up to {data.lastDateText})</> : null}:{" "}
-          <strong>{data.counts.flagged} flagged</strong>, {data.counts.quiet} quiet, {data.counts.untestable} not testable.
+          <strong>{data.counts.flagged} flagged</strong>, {data.counts.quiet} quiet, {data.counts.untestable} not testable
+          {data.warmUp ? <>, {data.warmUp.waiting.length} still being computed</> : null}.
         </p>
       </div>
+      <FreshnessNote freshness={data.freshness} />
+      {data.warmUp ? (
+        <div className="card warm-up" data-testid="warm-up">
+          <p role="status">
+            {data.warmUp.waiting.length === 1 ? "One comparison is" : `${data.warmUp.waiting.length} comparisons are`}{" "}
+            {warmUpText(data.warmUp)}: {data.warmUp.waiting.join(", ")}. They are not shown until their results are ready.
+            <WarmUpRefresh href="/" />
+          </p>
+        </div>
+      ) : null}
 
       {flagged.length ? (
         <section aria-labelledby="open-heading">
@@ -126,7 +140,9 @@ function overviewMarkup(rows: readonly OverviewRow[]): Markup {
     const href = `/comparisons/${encodeURIComponent(r.code)}`;
     const latest = r.latest
       ? html`<a href="${href}/windows/${r.latest.start}" class="nowrap-link">${r.latest.range}</a>${r.latest.reason ? html`<div class="muted small">${r.latest.reason}</div>` : ""}`
-      : html`<span class="muted">history shorter than one window</span>`;
+      : r.problem
+        ? html`<span class="muted small">${r.problem}</span>`
+        : html`<span class="muted">history shorter than one window</span>`;
     const flaggedFor =
       r.flaggedDays !== null
         ? `${r.flaggedDays} ${r.flaggedDays === 1 ? "day" : "days"}`

@@ -14,6 +14,8 @@ export interface OverviewInput {
   episodes: readonly Episode[];
   /** Groups whose defect rate is outside its u-chart limits in the latest window. */
   rateSignals?: string[];
+  /** Why the comparison cannot be scanned at all (it names a line, shift or category that no longer exists), else null. */
+  problem?: string | null;
 }
 
 export interface OverviewRow {
@@ -43,6 +45,8 @@ export interface OverviewRow {
   episodes: number;
   lastEpisode: { start: string; end: string; range: string } | null;
   rateSignals: string[];
+  /** Why the comparison cannot be scanned at all, in plain words; null when it can. */
+  problem: string | null;
   displayOrder: number;
 }
 
@@ -108,6 +112,7 @@ export function overviewRow(input: OverviewInput, names: Names): OverviewRow {
     episodes: input.episodes.length,
     lastEpisode: lastEpisode ? { start: lastEpisode.start, end: lastEpisode.end, range: formatRange(lastEpisode.start, lastEpisode.end) } : null,
     rateSignals: input.rateSignals ?? [],
+    problem: input.problem ?? null,
     displayOrder: c.displayOrder,
   };
 }

@@ -8,7 +8,9 @@ import { namesFrom, type Names } from "./names";
 import { shapeOverview } from "./overview";
 import type { ReadingRateSignal } from "./reading";
 import type { RateWindow } from "@/lib/monitor/types";
-import { countsBetween, lastDataDate, rateSeries, runComparison, windowTable, type ComparisonRun } from "./source";
+import { countsBetween, lastDataDate, rateSeries, runComparison, runComparisonIfReady, windowTable, type ComparisonRun } from "./source";
+import { warmUpStatus } from "@/lib/monitor/service";
+import { combineFreshness, type WarmUpNote } from "./freshness";
 import { shapeTimeline } from "./timeline";
 import { lastCompleteWeek, parseIsoWeek, shapeWeek, shiftWeek, type IsoWeekRef, type WeekCounts } from "./week";
 import { shapeWindow } from "./window";
@@ -80,16 +82,33 @@ const keptOverview = keptUntilWrite(loadOverview, 1, current);
 
 async function loadOverview() {
   const [comparisons, n] = await Promise.all([keptComparisons("all"), names()]);
+  // During the warm-up after a start, the overview shows the comparisons already built
+  // and lists the others as being computed, instead of waiting for all of them.
+  const warming = warmUpStatus().state === "warming";
   const inputs = [];
-  let behind = 0;
+  const runs: ComparisonRun[] = [];
+  const waiting: string[] = [];
   for (const c of comparisons) {
-    const run = await runComparison(c);
-    behind += pendingEntries(run);
+    const run = warming ? runComparisonIfReady(c) : await runComparison(c);
+    if (!run) {
+      waiting.push(c.name);
+      continue;
+    }
+    runs.push(run);
     const signals = rateSignalsOf(run.rateWindows.at(-1) ?? null, c, n).map((s) => s.groupName);
-    inputs.push({ comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals });
+    inputs.push({ comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals, problem: run.problem });
   }
+  const warmUp: WarmUpNote | null = waiting.length ? { ready: comparisons.length - waiting.length, total: comparisons.length, waiting } : null;
+  const freshness = combineFreshness(runs.map((r) => r.computed));
   const last = lastDataDate();
-  return { ...shapeOverview(inputs, n), lastDate: last, lastDateText: last ? formatDay(last) : null, current: behind === 0 };
+  return {
+    ...shapeOverview(inputs, n),
+    lastDate: last,
+    lastDateText: last ? formatDay(last) : null,
+    freshness,
+    warmUp,
+    current: freshness.pendingEntries === 0 && warmUp === null,
+  };
 }
 
 /** One comparison's timeline, episodes and window lists; null when no such comparison (kept until the next write). */
@@ -121,6 +140,8 @@ async function loadTimeline(code: string, rateGroup: string | null) {
     recent,
     windows: run.windows,
     names: n,
+    problem: run.problem,
+    freshness: combineFreshness([run.computed]),
     current: pendingEntries(run) === 0,
   };
 }
@@ -142,7 +163,8 @@ async function loadWindow(code: string, start: string) {
   const run = await runComparison(c);
   const index = run.windows.findIndex((w) => w.start === start);
   const fresh = pendingEntries(run) === 0;
-  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null, current: fresh };
+  const about = { problem: run.problem, freshness: combineFreshness([run.computed]), current: fresh };
+  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null, ...about };
   const w = run.windows[index];
   const neighbours = {
     previous: index > 0 ? run.windows[index - 1].start : null,
@@ -151,9 +173,9 @@ async function loadWindow(code: string, start: string) {
   const found = run.episodes.find((e) => e.start <= w.start && e.end >= w.end) ?? null;
   const episode = found ? { start: found.start, end: found.end, href: (await episodeHrefs(c.code, [found])).get(found.start)! } : null;
   const detail = await windowTable(c, start);
-  if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode, current: fresh };
+  if (!detail?.table) return { comparison: c, view: null, window: w, neighbours, episode, ...about };
   const signals = rateSignalsOf(detail.rateWindow, c, n);
-  return { comparison: c, view: shapeWindow(detail.table, n, signals), window: w, neighbours, episode, current: fresh };
+  return { comparison: c, view: shapeWindow(detail.table, n, signals), window: w, neighbours, episode, ...about };
 }
 
 function weekCounts(groupBy: "line" | "shift", week: IsoWeekRef, lines?: string[]): WeekCounts {

@@ -1,7 +1,7 @@
 import { rawDb } from "@/lib/db/client";
 import type { ComparisonRecord } from "@/lib/db/comparisons";
 import { addDays } from "@/lib/dates";
-import { PAGE_MAX_LAG_MS, runComparison as serviceRun, windowDetail as serviceWindow, type Computed } from "@/lib/monitor/service";
+import { PAGE_MAX_LAG_MS, runComparison as serviceRun, runComparisonIfReady as serviceRunIfReady, windowDetail as serviceWindow, type Computed, type ComparisonRun as ServiceRun } from "@/lib/monitor/service";
 import type { Episode, RateWindow, ScanWindow } from "@/lib/monitor/types";
 import type { TableAnalysis } from "@/lib/stats/analyze-table";
 import { criticalValue } from "./critical";
@@ -38,7 +38,19 @@ const EMPTY: Omit<ComparisonRun, "comparison"> = { windows: [], episodes: [], ra
  * after a start, a comparison not yet built is built first — the page waits for it alone).
  */
 export async function runComparison(c: ComparisonRecord): Promise<ComparisonRun> {
-  const run = await serviceRun(c.code, { maxLagMs: PAGE_MAX_LAG_MS });
+  return runOf(c, await serviceRun(c.code, { maxLagMs: PAGE_MAX_LAG_MS }));
+}
+
+/**
+ * The scan of one saved comparison if it is built already, else null (its build is
+ * queued): for the overview during the warm-up after a start, which shows what is ready.
+ */
+export function runComparisonIfReady(c: ComparisonRecord): ComparisonRun | null {
+  const run = serviceRunIfReady(c.code, { maxLagMs: PAGE_MAX_LAG_MS });
+  return run === null ? null : runOf(c, run ?? null);
+}
+
+function runOf(c: ComparisonRecord, run: ServiceRun | null): ComparisonRun {
   if (!run) return { comparison: c, ...EMPTY };
   const byStart = new Map(run.rates.windows.map((w) => [w.start, w]));
   return {

@@ -34,6 +34,8 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   await expect(lines).toBeVisible();
   // The across-lines comparison has found the planted change as an episode.
   await expect(lines.locator("td").last()).not.toHaveText("0");
+  // Every review page says how current its results are (the scans may be a few seconds behind the floor).
+  await expect(page.getByTestId("freshness")).toHaveText(/^Results as of \d{2}:\d{2}:\d{2}( · [\d,]+ entr(y|ies) since, being added)?$/);
   await shot(page, "overview");
 
   // The flagged-period records are made when their list is opened; after that the timeline links to the record.
@@ -52,6 +54,7 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   const last = addDays(localToday(), -1);
   expect(start >= addDays(last, -DEMO_STORIES.mix.startDaysBack - 7)).toBe(true);
   expect(start <= addDays(last, -DEMO_STORIES.mix.startDaysBack + DEMO_STORIES.mix.lengthDays)).toBe(true);
+  await expect(page.getByTestId("freshness")).toContainText(/^Results as of \d{2}:\d{2}:\d{2}/);
   await shot(page, "timeline");
   await episode.getByRole("link", { name: "Flagged-period record" }).click();
   await expect(page.getByRole("heading", { level: 1, name: /Flagged period #\d+: All lines compared/ })).toBeVisible();
@@ -60,6 +63,7 @@ test("overview → flagged comparison → episode → strongest window shows P3 
   await episode.locator("td").nth(2).getByRole("link").click();
   await expect(page).toHaveURL(/\/comparisons\/lines\/windows\/\d{4}-\d{2}-\d{2}$/);
   await expect(page.locator('.state[data-state="flagged"]').first()).toBeVisible();
+  await expect(page.getByTestId("freshness")).toContainText(/^Results as of \d{2}:\d{2}:\d{2}/);
   const cell = page.locator('table.heat td[data-row="P3"][data-category="seal-leak"]');
   await expect(cell).toHaveAttribute("data-beyond", "true");
   await expect(cell).toContainText("▲");

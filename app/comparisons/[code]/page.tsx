@@ -16,6 +16,7 @@ import { rateSeriesOf, timelineSeries } from "../../components/charts/timeline-s
 import { SoftLinks } from "../../components/review/soft-links";
 import { StateBadge, stateBadgeMarkup } from "../../components/review/state-badge";
 import { SettingsSummary } from "../../components/review/settings-summary";
+import { FreshnessNote } from "../../components/review/freshness-note";
 import "../../components/review/review.css";
 
 export const dynamic = "force-dynamic";
@@ -81,6 +82,12 @@ export default async function TimelinePage({ params, searchParams }: Params) {
           </Link>
         </p>
       </div>
+      <FreshnessNote freshness={data.freshness} />
+      {data.problem ? (
+        <p className="card problem-note" data-testid="problem">
+          Not testable: {data.problem}
+        </p>
+      ) : null}
       <p className="lede">
         {kindLabel(c.compare, c.lines, names)}. Now: <StateBadge state={stateOf(latest)} />{" "}
         {latest ? (
@@ -92,6 +99,8 @@ export default async function TimelinePage({ params, searchParams }: Params) {
             , adjusted p{" "}
             {formatP(latest.adjustedPValue)}, V {formatV(latest.cramersVCorrected)}.
           </>
+        ) : data.problem ? (
+          "no window (see above)."
         ) : (
           "no window yet."
         )}

@@ -17,6 +17,7 @@ import { StaticMarkup } from "../../../../components/review/static-markup";
 import { ReadingBlock } from "../../../../components/review/reading-block";
 import { SettingsSummary } from "../../../../components/review/settings-summary";
 import { StateBadge } from "../../../../components/review/state-badge";
+import { FreshnessNote } from "../../../../components/review/freshness-note";
 import "../../../../components/review/review.css";
 
 export const dynamic = "force-dynamic";
@@ -45,6 +46,12 @@ export default async function WindowPage({ params }: Params) {
           <Link prefetch={false} href="/">Overview</Link> / <Link prefetch={false} href={base}>{c.name}</Link>
         </p>
         <h1>No window starts on {start}</h1>
+        <FreshnessNote freshness={data.freshness} />
+        {data.problem ? (
+          <p className="card problem-note" data-testid="problem">
+            Not testable: {data.problem}
+          </p>
+        ) : null}
         <p>
           The scan of this comparison has no window starting that day. <Link prefetch={false} href={base}>Back to the timeline</Link>.
         </p>
@@ -73,6 +80,7 @@ export default async function WindowPage({ params }: Params) {
         </h1>
         <StateBadge state={!w.testable ? "untestable" : w.flagged ? "flagged" : "quiet"} large />
       </div>
+      <FreshnessNote freshness={data.freshness} />
       {nav}
       <SettingsSummary comparison={c} />
       {view ? (
