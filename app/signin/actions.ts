@@ -9,6 +9,7 @@ import { isSameOrigin } from "@/lib/auth/origin";
 import { revokeSessionToken, validateSessionToken } from "@/lib/auth/sessions";
 import { badgeSignIn, passwordSignIn, type SignInResult } from "@/lib/auth/signin";
 import { recordAudit } from "@/lib/auth/audit";
+import { actionOutcome } from "@/lib/http/action-result";
 
 export type SignInState = { ok: false; error: string; username?: string; badge?: string } | { ok: true };
 
@@ -36,29 +37,35 @@ async function refuseCrossSite(): Promise<SignInState | null> {
 }
 
 export async function signInWithPassword(_prev: SignInState, form: FormData): Promise<SignInState> {
-  const refused = await refuseCrossSite();
-  if (refused) return refused;
-  const parsed = passwordForm.safeParse({
-    username: form.get("username") ?? "",
-    password: form.get("password") ?? "",
-    next: form.get("next") ?? undefined,
+  // A full, read-only or busy database (sessions and audit are writes) comes back as the form's plain message.
+  return actionOutcome("sign-in: password", async (): Promise<SignInState> => {
+    const refused = await refuseCrossSite();
+    if (refused) return refused;
+    const parsed = passwordForm.safeParse({
+      username: form.get("username") ?? "",
+      password: form.get("password") ?? "",
+      next: form.get("next") ?? undefined,
+    });
+    if (!parsed.success) return { ok: false, error: parsed.error.issues[0]?.message ?? "Check the form.", username: String(form.get("username") ?? "") };
+    const result = await passwordSignIn({ username: parsed.data.username, password: parsed.data.password, ip: await requestIp() });
+    if (!result.ok) return { ok: false, error: result.error, username: parsed.data.username };
+    await replaceSession(result.token, result.expiresAt);
+    redirect(destination(result, parsed.data.next));
   });
-  if (!parsed.success) return { ok: false, error: parsed.error.issues[0]?.message ?? "Check the form.", username: String(form.get("username") ?? "") };
-  const result = await passwordSignIn({ username: parsed.data.username, password: parsed.data.password, ip: await requestIp() });
-  if (!result.ok) return { ok: false, error: result.error, username: parsed.data.username };
-  await replaceSession(result.token, result.expiresAt);
-  redirect(destination(result, parsed.data.next));
 }
 
 export async function signInWithBadge(_prev: SignInState, form: FormData): Promise<SignInState> {
-  const refused = await refuseCrossSite();
-  if (refused) return refused;
-  const parsed = badgeForm.safeParse({ badge: form.get("badge") ?? "", pin: form.get("pin") ?? "", next: form.get("next") ?? undefined });
-  if (!parsed.success) return { ok: false, error: parsed.error.issues[0]?.message ?? "Check the form.", badge: String(form.get("badge") ?? "") };
-  const result = await badgeSignIn({ badge: parsed.data.badge, pin: parsed.data.pin, ip: await requestIp() });
-  if (!result.ok) return { ok: false, error: result.error, badge: parsed.data.badge };
-  await replaceSession(result.token, result.expiresAt);
-  redirect(destination(result, parsed.data.next));
+  // A full, read-only or busy database (sessions and audit are writes) comes back as the form's plain message.
+  return actionOutcome("sign-in: badge", async (): Promise<SignInState> => {
+    const refused = await refuseCrossSite();
+    if (refused) return refused;
+    const parsed = badgeForm.safeParse({ badge: form.get("badge") ?? "", pin: form.get("pin") ?? "", next: form.get("next") ?? undefined });
+    if (!parsed.success) return { ok: false, error: parsed.error.issues[0]?.message ?? "Check the form.", badge: String(form.get("badge") ?? "") };
+    const result = await badgeSignIn({ badge: parsed.data.badge, pin: parsed.data.pin, ip: await requestIp() });
+    if (!result.ok) return { ok: false, error: result.error, badge: parsed.data.badge };
+    await replaceSession(result.token, result.expiresAt);
+    redirect(destination(result, parsed.data.next));
+  });
 }
 
 /** A new session on every sign-in: the one this browser had before is revoked. */

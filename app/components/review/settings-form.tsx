@@ -159,10 +159,10 @@ export function SettingsForm({
           <div className="field">
             <label htmlFor="sparse">Tables with small expected counts</label>
             <select id="sparse" name="sparse" defaultValue={initial.sparse} {...field("sparse")}>
-              <option value="auto">Exact test when feasible, else Monte Carlo</option>
+              <option value="auto">Exact test when feasible, else sequential Monte Carlo (up to 10,000 tables)</option>
               <option value="pool">Pool sparse categories first</option>
               <option value="exact">Exact test</option>
-              <option value="monte-carlo">Monte Carlo</option>
+              <option value="monte-carlo">Monte Carlo (sequential, up to 10,000 tables)</option>
               <option value="asymptotic">Chi-square approximation anyway</option>
             </select>
             <ErrorText id="sparse-error" message={e.sparse} />

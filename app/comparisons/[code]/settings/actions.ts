@@ -5,12 +5,19 @@ import { AuthError, requireActionUser } from "@/lib/auth/guard";
 import { checkSettingsAgainstPlant, getComparison, settingsSchema, updateComparisonSettings, type ComparisonSettings } from "@/lib/db/comparisons";
 import { loadMasterData } from "@/lib/db/plant";
 import { parseSettingsForm, type SettingsFormResult } from "@/lib/review/settings-form";
+import { actionOutcome } from "@/lib/http/action-result";
 
 /**
  * Saves a comparison's settings from its form: same-origin engineer session, zod
- * validation, plant-aware checks, then one transaction with its AuditEvent.
+ * validation, plant-aware checks, then one transaction with its AuditEvent. A full,
+ * read-only or busy database comes back as the form's plain message (actionOutcome).
  */
 export async function saveComparisonSettings(_previous: SettingsFormResult, form: FormData): Promise<SettingsFormResult> {
+  const outcome = await actionOutcome("comparison settings: save", async () => ({ ok: true as const, result: await save(form) }));
+  return outcome.ok ? outcome.result : { status: "error", message: outcome.error, fieldErrors: outcome.fieldErrors ?? {} };
+}
+
+async function save(form: FormData): Promise<SettingsFormResult> {
   let actor: { id: number; name: string };
   try {
     const me = await requireActionUser("engineer");
