@@ -1,4 +1,4 @@
-import { db } from "@/lib/db/client";
+import { db, writeTransaction } from "@/lib/db/client";
 import { ignoreDatabaseTrouble } from "@/lib/db/errors";
 import { API_SCOPES, isApiScope, type ApiScope } from "./roles";
 import { randomToken, sha256 } from "./tokens-crypto";
@@ -78,7 +78,7 @@ export async function issueApiToken(
   const clean = name.trim();
   if (clean.length < 2 || clean.length > 80) return { ok: false, error: "A token name is 2-80 characters." };
   if (scopes.filter(isApiScope).length === 0) return { ok: false, error: "Choose at least one scope." };
-  const created = await db().$transaction(async (tx) => {
+  const created = await writeTransaction(async (tx) => {
     const made = await createApiToken(clean, scopes, actor.id, new Date(), tx);
     await tx.auditEvent.create({
       data: {
@@ -98,7 +98,7 @@ export async function issueApiToken(
 export async function withdrawApiToken(actor: { id: number; name: string }, id: number): Promise<{ ok: true } | { ok: false; error: string }> {
   const row = await db().apiToken.findUnique({ where: { id } });
   if (!row) return { ok: false, error: "No such token." };
-  const revoked = await db().$transaction(async (tx) => {
+  const revoked = await writeTransaction(async (tx) => {
     if (!(await revokeApiToken(id, new Date(), tx))) return false;
     await tx.auditEvent.create({
       data: {

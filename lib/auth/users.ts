@@ -1,4 +1,4 @@
-import { db } from "@/lib/db/client";
+import { db, writeTransaction } from "@/lib/db/client";
 import { recordAudit, type Actor } from "./audit";
 import { hashPassword, passwordProblem, pinProblem } from "./password";
 import { isRole, type Role } from "./roles";
@@ -35,7 +35,7 @@ export async function createUser(
   if (await db().user.findUnique({ where: { username } })) return { ok: false, error: `The user name "${username}" is taken.` };
   const passwordHash = await hashPassword(input.password);
   const displayName = input.displayName?.trim() || username;
-  const user = await db().$transaction(async (tx) => {
+  const user = await writeTransaction(async (tx) => {
     const created = await tx.user.create({ data: { username, displayName, role: input.role, passwordHash } });
     await recordAudit(actor, { action: "user.create", entity: "user", entityId: created.id, after: publicView(created) }, tx);
     return created;
@@ -53,7 +53,7 @@ export async function setRole(actor: Actor, userId: number, role: Role, reason?:
     return { ok: false, error: "This is the last active admin; make another admin first." };
   }
   const now = new Date();
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     await tx.user.update({ where: { id: userId }, data: { role } });
     await tx.session.updateMany({ where: { userId, revokedAt: null }, data: { revokedAt: now } });
     await recordAudit(actor, { action: "user.role", entity: "user", entityId: userId, before: { role: user.role }, after: { role }, reason }, tx);
@@ -69,7 +69,7 @@ export async function setActive(actor: Actor, userId: number, active: boolean, r
     return { ok: false, error: "This is the last active admin; make another admin first." };
   }
   const now = new Date();
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     await tx.user.update({ where: { id: userId }, data: { active } });
     if (!active) await tx.session.updateMany({ where: { userId, revokedAt: null }, data: { revokedAt: now } });
     await recordAudit(
@@ -88,7 +88,7 @@ export async function resetPassword(actor: Actor, userId: number, password: stri
   if (!user) return { ok: false, error: "No such user." };
   const passwordHash = await hashPassword(password);
   const now = new Date();
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     await tx.user.update({ where: { id: userId }, data: { passwordHash } });
     await tx.session.updateMany({ where: { userId, revokedAt: null }, data: { revokedAt: now } });
     await recordAudit(actor, { action: "user.password", entity: "user", entityId: userId }, tx);
@@ -112,7 +112,7 @@ export async function setBadge(actor: Actor, userId: number, badge: string | nul
     pinHash = await hashPassword(pin!);
   }
   const now = new Date();
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     await tx.user.update({ where: { id: userId }, data: { badgeNumber, pinHash, failedPins: 0, pinLockedUntil: null } });
     await tx.session.updateMany({ where: { userId, kind: "badge", revokedAt: null }, data: { revokedAt: now } });
     await recordAudit(

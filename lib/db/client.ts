@@ -3,8 +3,9 @@ import Database from "better-sqlite3";
 import { mkdirSync } from "node:fs";
 import path from "node:path";
 import { markDatabaseTrouble } from "./errors";
-import { PrismaClient } from "./generated/client";
+import { PrismaClient, type Prisma } from "./generated/client";
 import { databaseFile, databaseUrl } from "./url";
+import { withWriteLock } from "./write-lock";
 
 /**
  * The one Prisma client of the process, on SQLite through the better-sqlite3 driver
@@ -50,9 +51,11 @@ function connectionPragmas(readonly: boolean): string[] {
  * lock, or after it has committed since the read, the write fails at once with
  * SQLITE_BUSY / SQLITE_BUSY_SNAPSHOT (measured: 12 ms instead of 5 s). BEGIN IMMEDIATE
  * takes the write lock first, under the busy timeout, as the raw connection's imports
- * and floor posts do. Holding it from BEGIN costs nothing in-process: a Prisma
- * transaction here runs on microtasks only (no other request's code runs inside it,
- * checked with setImmediate), so only other processes (CLI import, backup) ever wait.
+ * and floor posts do. In-process, a transaction that awaits real work (a timer, I/O, the
+ * scan service) lets other requests run while it holds the lock, so a raw-connection
+ * write then would stall the thread in the busy handler and fail: in-process writers
+ * queue on lib/db/write-lock.ts instead (writeTransaction below), and only other
+ * processes (CLI import, backup) ever meet the busy timeout.
  * Not on a read-only connection, which cannot write anyway.
  */
 function beginImmediately(adapter: object): void {
@@ -163,6 +166,41 @@ export function db(): PrismaClient {
 /** The raw connection for bulk paths (see openSqlite). */
 export function rawDb(): Database.Database {
   return handles().sqlite;
+}
+
+/** The transaction client handed to writeTransaction's fn. */
+export type TransactionClient = Prisma.TransactionClient;
+
+/**
+ * A Prisma interactive transaction under the process-wide write lock
+ * (lib/db/write-lock.ts): every Prisma write transaction goes through here, never through
+ * db().$transaction directly (test/db/write-lock.test.ts checks the source), so that a
+ * raw-connection write (floor sheet, API, import) waits on the event loop for it instead
+ * of stalling the thread 5 s in SQLite's busy handler and failing.
+ *
+ * Nested use joins: writeTransaction called inside another one's fn (same async context)
+ * runs fn on the outer transaction client — one transaction, committed or rolled back
+ * as a whole — instead of queueing behind itself (deadlock) or opening a second
+ * transaction on the same connection (the adapter's own mutex would deadlock too).
+ * Inside a plain withWriteLock holder it opens the transaction without queueing again.
+ * Cost: the lock (microseconds uncontended) plus the transaction.
+ *
+ * @example
+ * await writeTransaction(async (tx) => { await tx.line.update({ where: { id: 1 }, data: { name: "Press 1" } }); });
+ */
+export function writeTransaction<T>(fn: (tx: TransactionClient) => Promise<T>, options?: { maxWait?: number; timeout?: number }): Promise<T> {
+  return withWriteLock(async (holder) => {
+    if (holder.prismaTx) return fn(holder.prismaTx as TransactionClient);
+    try {
+      // $transaction is the only call of it in lib/ and app/ (see the doc comment).
+      return await db().$transaction(async (tx) => {
+        holder.prismaTx = tx;
+        return fn(tx);
+      }, options);
+    } finally {
+      holder.prismaTx = null;
+    }
+  });
 }
 
 /** Closes both connections; tests call this between databases. */

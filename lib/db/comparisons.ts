@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { db } from "./client";
+import { db, writeTransaction } from "./client";
 import type { Comparison } from "./generated/client";
 
 /**
@@ -131,7 +131,7 @@ export async function ensureDefaultComparisons(): Promise<number> {
   let created = 0;
   for (const row of defaultComparisonRows(lines)) {
     try {
-      await db().$transaction(async (tx) => {
+      await writeTransaction(async (tx) => {
         const saved = await tx.comparison.create({ data: { ...DEFAULT_SETTINGS, ...row } });
         await tx.auditEvent.create({
           data: {
@@ -239,7 +239,7 @@ export async function updateComparisonSettings(
   settings: ComparisonSettings,
   actor: { id: number | null; name: string },
 ): Promise<ComparisonRecord | null> {
-  return db().$transaction(async (tx) => {
+  return writeTransaction(async (tx) => {
     const current = await tx.comparison.findUnique({ where: { code } });
     if (!current) return null;
     const before = settingsOf(toRecord(current));

@@ -1,4 +1,4 @@
-import { db } from "./client";
+import { db, writeTransaction } from "./client";
 import type { Prisma } from "./generated/client";
 import { OPEN_STATUSES, isEpisodeStatus, type EpisodeStatus } from "@/lib/episodes/status";
 import type { EpisodeDriver } from "@/lib/monitor/types";
@@ -242,7 +242,7 @@ export class EpisodeError extends Error {
 
 /** Assigns (or clears) the owner. Audited. Returns false when nothing changed. */
 export async function setEpisodeOwner(id: number, ownerId: number | null, actor: Actor): Promise<boolean> {
-  return db().$transaction(async (tx) => {
+  return writeTransaction(async (tx) => {
     const e = await tx.episode.findUnique({ where: { id }, include: { owner: { select: { displayName: true } } } });
     if (!e) throw new EpisodeError("not-found", "No such flagged period.");
     if (e.ownerId === ownerId) return false;
@@ -273,7 +273,7 @@ export async function setEpisodeOwner(id: number, ownerId: number | null, actor:
 /** Sets the plant's own containment / corrective-action references (free text). Audited. */
 export async function setEpisodeActionRefs(id: number, actionRefs: string | null, actor: Actor): Promise<boolean> {
   const value = actionRefs && actionRefs.trim() !== "" ? actionRefs.trim() : null;
-  return db().$transaction(async (tx) => {
+  return writeTransaction(async (tx) => {
     const e = await tx.episode.findUnique({ where: { id } });
     if (!e) throw new EpisodeError("not-found", "No such flagged period.");
     if (e.actionRefs === value) return false;
@@ -291,7 +291,7 @@ export async function setEpisodeActionRefs(id: number, actionRefs: string | null
 export async function addEpisodeNote(id: number, body: string, actor: Actor & { id: number }): Promise<EpisodeNoteView> {
   const text = body.trim();
   if (text === "") throw new EpisodeError("invalid", "A note needs some text.");
-  return db().$transaction(async (tx) => {
+  return writeTransaction(async (tx) => {
     const e = await tx.episode.findUnique({ where: { id } });
     if (!e) throw new EpisodeError("not-found", "No such flagged period.");
     const note = await tx.episodeNote.create({

@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { db } from "./client";
+import { db, writeTransaction, type TransactionClient } from "./client";
 import { codeSchema } from "../intake/codes";
 import type { Actor } from "../intake/actor";
 import { isClockTime } from "../intake/shift-clock";
@@ -113,7 +113,7 @@ function isUniqueViolation(error: unknown): boolean {
 export async function createMaster(kind: MasterKind, input: Record<string, unknown>, actor: Actor): Promise<number> {
   const data = MasterCreateSchemas[kind].parse(input) as Record<string, unknown> & { code: string };
   try {
-    return await db().$transaction(async (tx) => {
+    return await writeTransaction(async (tx) => {
       let row: Record<string, unknown> & { id: number };
       if (kind === "line") row = await tx.line.create({ data: data as { code: string; name: string; displayOrder: number } });
       else if (kind === "shift")
@@ -136,7 +136,7 @@ function entityName(kind: MasterKind): string {
   return kind === "line" ? "Line" : kind === "shift" ? "Shift" : kind === "category" ? "DefectCategory" : "Product";
 }
 
-async function findRow(tx: Parameters<Parameters<ReturnType<typeof db>["$transaction"]>[0]>[0], kind: MasterKind, id: number) {
+async function findRow(tx: TransactionClient, kind: MasterKind, id: number) {
   if (kind === "line") return tx.line.findUnique({ where: { id } });
   if (kind === "shift") return tx.shift.findUnique({ where: { id } });
   if (kind === "category") return tx.defectCategory.findUnique({ where: { id } });
@@ -153,7 +153,7 @@ export async function updateMaster(
   const fields = change.fields ? (MasterUpdateSchemas[kind].parse(change.fields) as Record<string, unknown>) : {};
   const data: Record<string, unknown> = { ...fields };
   if (change.active !== undefined) data.active = change.active;
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     const before = (await findRow(tx, kind, id)) as (Record<string, unknown> & { active: boolean; startTime?: string; endTime?: string }) | null;
     if (!before) throw new MasterDataError(`No ${MASTER_LABELS[kind].one} #${id}.`);
     if (kind === "shift" && change.active === true && before.startTime === before.endTime && !("startTime" in data)) {

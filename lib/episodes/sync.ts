@@ -1,4 +1,4 @@
-import { db } from "@/lib/db/client";
+import { db, writeTransaction } from "@/lib/db/client";
 import { writeAudit } from "@/lib/db/episodes";
 import type { Episode as ScannedEpisode, ScanResult } from "@/lib/monitor/types";
 import { analysisOf, type EpisodeSource } from "./source";
@@ -126,7 +126,7 @@ async function syncNow(source: EpisodeSource, comparison: ComparisonInfo, scan: 
   for (let i = 0; i < scanned.length; i++) {
     if (!matches[i]) analyses.set(i, await analysisOf(source, comparison, scanned[i]));
   }
-  await db().$transaction(async (tx) => {
+  await writeTransaction(async (tx) => {
     const matched = new Set<number>();
     for (let i = 0; i < scanned.length; i++) {
       const episode = scanned[i];

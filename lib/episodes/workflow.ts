@@ -1,4 +1,4 @@
-import { db } from "@/lib/db/client";
+import { writeTransaction } from "@/lib/db/client";
 import { EpisodeError, getEpisode, writeAudit, type EpisodeRecord } from "@/lib/db/episodes";
 import { analysisOf, overlappingEpisode, type EpisodeSource } from "./source";
 import { STATUS_LABELS, canTransition, reasonRequired, type EpisodeStatus } from "./status";
@@ -62,7 +62,7 @@ export async function changeEpisodeStatus(
   }
   const analysis = await currentAnalysis(source, record);
   const assignOwner = to === "investigating" && record.owner === null && actor.id !== null;
-  return db().$transaction(async (tx) => {
+  return writeTransaction(async (tx) => {
     // Only if nobody changed the status in the meantime.
     const updated = await tx.episode.updateMany({
       where: { id, status: from },

@@ -10,12 +10,12 @@ import { submitOnce, type SubmitOutcome } from "./submissions";
  * with the reason, under the form's idempotency key (a double click stores it once;
  * supersedesId is unique as well, so an entry is never corrected twice).
  */
-export function correctEntry(
+export async function correctEntry(
   actor: Actor,
   input: unknown,
   now = new Date(),
   sqlite: Database.Database = rawDb(),
-): SubmitOutcome | { status: "invalid"; problems: FieldProblem[] } {
+): Promise<SubmitOutcome | { status: "invalid"; problems: FieldProblem[] }> {
   const parsed = CorrectionSchema.safeParse(input);
   if (!parsed.success) return { status: "invalid", problems: problemsFromZod(parsed.error) };
   const { idempotencyKey, ...content } = parsed.data;

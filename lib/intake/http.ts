@@ -117,7 +117,7 @@ export async function postTallies(request: Request, actor: Actor): Promise<Respo
   const input = await parseBatch(request, TallyBatchSchema);
   if (input instanceof Response) return input;
   const { idempotencyKey: _k, ...content } = input.data;
-  return outcomeResponse(submitOnce({ key: input.key, kind: "tallies", content, actor, build: (sqlite) => planTallyBatch(sqlite, input.data) }));
+  return outcomeResponse(await submitOnce({ key: input.key, kind: "tallies", content, actor, build: (sqlite) => planTallyBatch(sqlite, input.data) }));
 }
 
 /** POST /api/v1/inspections */
@@ -126,7 +126,7 @@ export async function postInspections(request: Request, actor: Actor): Promise<R
   if (input instanceof Response) return input;
   const { idempotencyKey: _k, ...content } = input.data;
   return outcomeResponse(
-    submitOnce({ key: input.key, kind: "inspections", content, actor, build: (sqlite) => planInspectionBatch(sqlite, input.data) }),
+    await submitOnce({ key: input.key, kind: "inspections", content, actor, build: (sqlite) => planInspectionBatch(sqlite, input.data) }),
   );
 }
 
@@ -136,7 +136,7 @@ export async function postFloorSheet(request: Request, actor: Actor, now = new D
   if (input instanceof Response) return input;
   const sheet = input.data;
   const { idempotencyKey: _k, ...content } = sheet;
-  const outcome = submitOnce({ key: input.key, kind: "floor-sheet", content, actor, now, build: (sqlite) => planFloorSheet(sqlite, actor, sheet, now) });
+  const outcome = await submitOnce({ key: input.key, kind: "floor-sheet", content, actor, now, build: (sqlite) => planFloorSheet(sqlite, actor, sheet, now) });
   return outcomeResponse(outcome, () => ({ sheet: sheetSummary(sheet.date, sheet.shift, sheet.line) }));
 }
 

@@ -1,5 +1,6 @@
 import type Database from "better-sqlite3";
 import { rawDb } from "../db/client";
+import { withRawWrite } from "../db/write-lock";
 import type { Actor } from "./actor";
 import { sqliteTime, writeAudit } from "./audit";
 import { type CodeLookup, type ImportKind, type MasterKind, type Problem, type ReadResult, readImportFile } from "./csv-read";
@@ -179,7 +180,9 @@ export async function importCsv(
   }
 
   try {
-    outcome.batchId = writeImport(sqlite, read, options, fileName);
+    // Under the process-wide write lock (lib/db/write-lock.ts); the write stays one
+    // synchronous transaction, so the file is read and checked before the lock is taken.
+    outcome.batchId = await withRawWrite(() => writeImport(sqlite, read, options, fileName));
   } catch (error) {
     if (error instanceof RefusedInTransaction) {
       outcome.duplicateOf = error.previous;

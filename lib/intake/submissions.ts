@@ -1,6 +1,7 @@
 import type Database from "better-sqlite3";
 import { createHash } from "node:crypto";
 import { rawDb } from "../db/client";
+import { withRawWrite } from "../db/write-lock";
 import type { Actor } from "./actor";
 import { sqliteTime, writeAudit } from "./audit";
 import type { FieldProblem } from "./schemas";
@@ -9,7 +10,9 @@ import type { FieldProblem } from "./schemas";
  * Idempotent writes. Every write from the floor sheet, the JSON API and the corrections
  * page runs under a client-chosen idempotency key, in one IMMEDIATE transaction on the
  * raw connection (which takes SQLite's write lock at BEGIN, so two connections cannot
- * both pass the check):
+ * both pass the check), after the process-wide write lock (lib/db/write-lock.ts), so it
+ * waits for an open Prisma write transaction on the event loop instead of failing with
+ * SQLITE_BUSY after a 5 s stall of the whole thread:
  *   1. a Submission with this key exists → same content: the original result (replay);
  *      different content: conflict;
  *   2. otherwise the caller's plan is built (codes resolved, permissions and sheet state
@@ -147,8 +150,9 @@ class Refused extends Error {
 /**
  * Stores a plan under an idempotency key exactly once. `build` runs inside the write
  * transaction (so it sees the state it will change) and returns the plan or a refusal.
+ * Async only for the write lock: the transaction itself is one synchronous call.
  */
-export function submitOnce(input: {
+export async function submitOnce(input: {
   key: string;
   kind: SubmissionKind;
   content: unknown;
@@ -156,7 +160,7 @@ export function submitOnce(input: {
   build: (sqlite: Database.Database) => Plan | Refusal;
   sqlite?: Database.Database;
   now?: Date;
-}): SubmitOutcome {
+}): Promise<SubmitOutcome> {
   const sqlite = input.sqlite ?? rawDb();
   const hash = contentHash(input.kind, input.content);
   const now = input.now ?? new Date();
@@ -230,7 +234,7 @@ export function submitOnce(input: {
     return { status: "created", result: resultFor(sqlite, findSubmission(sqlite, input.key)!) };
   });
   try {
-    return run.immediate();
+    return await withRawWrite(() => run.immediate());
   } catch (error) {
     if (error instanceof Refused) return error.refusal;
     if (isSubmissionKeyRace(error)) {

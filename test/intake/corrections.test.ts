@@ -146,7 +146,7 @@ describe("corrections of single entries and the cell history", () => {
 
   it("supersede the entry (never change it), and the history shows every entry with who, when and why", async () => {
     const id = await recordOne(plant.users.operator, at("2026-03-02", "09:00"));
-    const outcome = correct(plant.users.engineer, id, 2, at("2026-03-05", "09:00"));
+    const outcome = await correct(plant.users.engineer, id, 2, at("2026-03-05", "09:00"));
     expect(outcome.status).toBe("created");
     expect(cellTotal("2026-03-02", "A", "L1", "scratch")).toBe(2);
     expect(rawDb().prepare("SELECT count FROM TallyEntry WHERE id = ?").get(id)).toEqual({ count: 4 });
@@ -165,21 +165,21 @@ describe("corrections of single entries and the cell history", () => {
 
   it("cannot correct an entry twice: the second correction of the same entry is refused", async () => {
     const id = await recordOne(plant.users.operator, at("2026-03-02", "09:00"));
-    expect(correct(plant.users.engineer, id, 3, at("2026-03-02", "09:30")).status).toBe("created");
-    const second = correct(plant.users.engineer, id, 1, at("2026-03-02", "09:31"));
+    expect((await correct(plant.users.engineer, id, 3, at("2026-03-02", "09:30"))).status).toBe("created");
+    const second = await correct(plant.users.engineer, id, 1, at("2026-03-02", "09:31"));
     expect(second.status).toBe("stale");
     expect(cellTotal("2026-03-02", "A", "L1", "scratch")).toBe(3);
   });
 
-  it("refuses a correction without a reason, or to the same value", () => {
-    expect(correctEntry(plant.users.engineer, { idempotencyKey: key(), kind: "tally", entryId: 1, value: 1, reason: "  " }).status).toBe("invalid");
+  it("refuses a correction without a reason, or to the same value", async () => {
+    expect((await correctEntry(plant.users.engineer, { idempotencyKey: key(), kind: "tally", entryId: 1, value: 1, reason: "  " })).status).toBe("invalid");
   });
 
   it("a double-submitted correction form (same key) stores one correction", async () => {
     const id = await recordOne(plant.users.operator, at("2026-03-02", "09:00"));
     const input = { idempotencyKey: "corr-form-01", kind: "tally", entryId: id, value: 1, reason: "typo" };
-    expect(correctEntry(plant.users.engineer, input, at("2026-03-02", "09:10")).status).toBe("created");
-    expect(correctEntry(plant.users.engineer, input, at("2026-03-02", "09:10")).status).toBe("replay");
+    expect((await correctEntry(plant.users.engineer, input, at("2026-03-02", "09:10"))).status).toBe("created");
+    expect((await correctEntry(plant.users.engineer, input, at("2026-03-02", "09:10"))).status).toBe("replay");
     expect(count("SELECT COUNT(*) AS n FROM TallyEntry WHERE supersedesId = ?", id)).toBe(1);
   });
 });
@@ -194,43 +194,43 @@ describe("operator correction window: own entries, from shift start until 30 min
   it("day shift A 06:00–14:00: allowed during the shift and until 14:29, refused at 14:30", async () => {
     const op = plant.users.operator;
     const id1 = await entryOf(op, sheetA, at("2026-03-02", "08:00"));
-    expect(correct(op, id1, at("2026-03-02", "13:59")).status).toBe("created");
+    expect((await correct(op, id1, at("2026-03-02", "13:59"))).status).toBe("created");
     const id2 = await entryOf(op, sheetA, at("2026-03-02", "08:00"));
-    expect(correct(op, id2, at("2026-03-02", "14:29")).status).toBe("created");
+    expect((await correct(op, id2, at("2026-03-02", "14:29"))).status).toBe("created");
     const id3 = await entryOf(op, sheetA, at("2026-03-02", "08:00"));
-    const late = correct(op, id3, at("2026-03-02", "14:30"));
+    const late = await correct(op, id3, at("2026-03-02", "14:30"));
     expect(late.status).toBe("forbidden");
     expect("message" in late && late.message).toMatch(/from 06:00 until 14:30/);
     // An engineer may correct it at any time.
-    expect(correct(plant.users.engineer, id3, at("2026-03-09", "10:00")).status).toBe("created");
+    expect((await correct(plant.users.engineer, id3, at("2026-03-09", "10:00"))).status).toBe("created");
   });
 
   it("refused before the shift has started (an early entry for a later shift)", async () => {
     const id = await entryOf(plant.users.operator, { ...sheetA, shift: "B" }, at("2026-03-02", "13:00"));
-    expect(correct(plant.users.operator, id, at("2026-03-02", "13:59")).status).toBe("forbidden");
-    expect(correct(plant.users.operator, id, at("2026-03-02", "14:00")).status).toBe("created");
+    expect((await correct(plant.users.operator, id, at("2026-03-02", "13:59"))).status).toBe("forbidden");
+    expect((await correct(plant.users.operator, id, at("2026-03-02", "14:00"))).status).toBe("created");
   });
 
   it("night shift N 22:00–06:00 of 2026-03-02 runs into 03-03: allowed at 03-03 05:00 and 06:29, refused at 06:30", async () => {
     const op = plant.users.operator;
     const night = { date: "2026-03-02", shift: "N", line: "L1" };
     const id1 = await entryOf(op, night, at("2026-03-03", "02:00"));
-    expect(correct(op, id1, at("2026-03-03", "05:00")).status).toBe("created");
+    expect((await correct(op, id1, at("2026-03-03", "05:00"))).status).toBe("created");
     const id2 = await entryOf(op, night, at("2026-03-03", "02:00"));
-    expect(correct(op, id2, at("2026-03-03", "06:29")).status).toBe("created");
+    expect((await correct(op, id2, at("2026-03-03", "06:29"))).status).toBe("created");
     const id3 = await entryOf(op, night, at("2026-03-03", "02:00"));
-    expect(correct(op, id3, at("2026-03-03", "06:30")).status).toBe("forbidden");
+    expect((await correct(op, id3, at("2026-03-03", "06:30"))).status).toBe("forbidden");
   });
 
   it("refuses API tokens (they add counts; people correct them)", async () => {
     const id = await entryOf(plant.users.operator, sheetA, at("2026-03-02", "08:00"));
-    const outcome = correct({ userId: null, name: 'API token "gateway"', role: "system" }, id, at("2026-03-02", "09:00"));
+    const outcome = await correct({ userId: null, name: 'API token "gateway"', role: "system" }, id, at("2026-03-02", "09:00"));
     expect(outcome.status).toBe("forbidden");
   });
 
   it("refuses another operator's entry even inside the window", async () => {
     const id = await entryOf(plant.users.operator, sheetA, at("2026-03-02", "08:00"));
-    const outcome = correct(plant.users.operator2, id, at("2026-03-02", "09:00"));
+    const outcome = await correct(plant.users.operator2, id, at("2026-03-02", "09:00"));
     expect(outcome.status).toBe("forbidden");
     expect("message" in outcome && outcome.message).toMatch(/recorded by op1 \(test\)/);
   });

@@ -29,7 +29,7 @@ beforeAll(async () => {
   await importCsv(Buffer.from("date,shift,line,units\n2026-03-01,A,L1,900\n2026-03-02,N,L2,800\n"), { actor: system });
   // Correct one of the two scratch entries (3 → 1): the export must show the current sum 2 + 1.
   const id = (rawDb().prepare("SELECT id FROM TallyEntry WHERE count = 3").get() as { id: number }).id;
-  const corrected = correctEntry(plant.users.engineer, { idempotencyKey: "corr-key-0001", kind: "tally", entryId: id, value: 1, reason: "miscount" });
+  const corrected = await correctEntry(plant.users.engineer, { idempotencyKey: "corr-key-0001", kind: "tally", entryId: id, value: 1, reason: "miscount" });
   expect(corrected.status).toBe("created");
 });
 afterAll(async () => ctx.cleanup());

@@ -157,8 +157,8 @@ describe("server actions when the database is full", () => {
     signedIn(engineerToken);
     const reason = "recount at the end of the shift ".repeat(15).trim();
     const engineer = plant.users.engineer;
-    await fillUntilFull((i) => {
-      const outcome = correctEntry(engineer, { idempotencyKey: `fill-${junk(i)}`, kind: "tally", entryId: entryIds[i], value: 2, reason });
+    await fillUntilFull(async (i) => {
+      const outcome = await correctEntry(engineer, { idempotencyKey: `fill-${junk(i)}`, kind: "tally", entryId: entryIds[i], value: 2, reason });
       if (outcome.status !== "created") throw new Error(`fill: ${outcome.status}`);
     });
     const target = entryIds[entryIds.length - 1];

@@ -18,9 +18,9 @@ export async function correctEntryAction(_prev: ActionResult, form: FormData): P
     if (refused) return refused;
     throw error;
   }
-  let outcome: ReturnType<typeof correctEntry>;
+  let outcome: Awaited<ReturnType<typeof correctEntry>>;
   try {
-    outcome = correctEntry(actor, {
+    outcome = await correctEntry(actor, {
       idempotencyKey: form.get("idempotencyKey"),
       kind: form.get("kind"),
       entryId: form.get("entryId"),
