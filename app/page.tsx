@@ -45,9 +45,10 @@ export default async function OverviewPage() {
         <div className="card warm-up" data-testid="warm-up">
           <p role="status">
             {data.warmUp.waiting.length === 1 ? "One comparison is" : `${data.warmUp.waiting.length} comparisons are`}{" "}
-            {warmUpText(data.warmUp)}: {data.warmUp.waiting.join(", ")}. They are not shown until their results are ready.
-            <WarmUpRefresh href="/" />
+            {warmUpText(data.warmUp)}; they are left out below until their results are ready.
           </p>
+          <p className="muted small">Still to come: {data.warmUp.waiting.join(", ")}.</p>
+          <WarmUpRefresh href="/" />
         </div>
       ) : null}
 
@@ -97,7 +98,11 @@ export default async function OverviewPage() {
         <div className="card quiet-note">
           <StateBadge state="quiet" large />
           <div>
-            <p className="quiet-title">No comparison is flagged in its latest window.</p>
+            <p className="quiet-title">
+              {data.warmUp
+                ? `${data.warmUp.ready === 1 ? "The one comparison ready so far is not" : `None of the ${data.warmUp.ready} comparisons ready so far is`} flagged in its latest window; ${data.warmUp.waiting.length} still being computed.`
+                : "No comparison is flagged in its latest window."}
+            </p>
             {recent.length ? (
               <p className="muted">
                 Flagged in the last {RECENT_DAYS} days:{" "}

@@ -10,6 +10,8 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it } from "vitest";
 import { rawDb } from "@/lib/db/client";
 import { forgetKeptResults, startWarmUp, warmUpStatus } from "@/lib/monitor/service";
 import { overviewData, timelineData } from "@/lib/review/pages";
+import { listComparisons } from "@/lib/db/comparisons";
+import { loadMasterData } from "@/lib/db/plant";
 import { useTempDatabase } from "../helpers/temp-db";
 import { codes, simulatePlant } from "../monitor/helpers/simulate";
 import { insertComparison, insertMasterData, insertTallies, type Ids } from "../monitor/helpers/insert-plant";
@@ -17,15 +19,15 @@ import { insertComparison, insertMasterData, insertTallies, type Ids } from "../
 let ctx: Awaited<ReturnType<typeof useTempDatabase>>;
 let ids: Ids;
 const lines = codes("L", 4);
-const shifts = ["A", "B"];
-const categories = codes("C", 6);
+const shifts = ["A", "B", "C"];
+const categories = codes("C", 12);
 
 beforeAll(async () => {
   ctx = await useTempDatabase();
   const db = rawDb();
   ids = insertMasterData(db, { lines, shifts, categories, families: {} });
   const { tallies } = simulatePlant(
-    { start: "2026-03-02", days: 120, lines, shifts, categories, weights: [6, 5, 4, 3, 2, 1], unitsPerShift: 800, defectsPerUnit: 0.02, changes: [] },
+    { start: "2025-09-01", days: 300, lines, shifts, categories, weights: [12, 11, 10, 9, 8, 7, 6, 5, 4, 3, 2, 1], unitsPerShift: 800, defectsPerUnit: 0.02, changes: [] },
     20261202,
   );
   insertTallies(db, ids, tallies);
@@ -33,6 +35,9 @@ beforeAll(async () => {
   insertComparison(db, { code: "shifts", compare: "shift" });
   for (const line of lines) insertComparison(db, { code: `history-${line}`, compare: "history", lines: [line], historyWeeks: 4 });
   insertComparison(db, { code: "history-L99", compare: "history", lines: ["L99"], historyWeeks: 4 });
+  // Opens Prisma's connection (reads only): its first use takes long enough for a small warm-up to finish meanwhile.
+  await listComparisons();
+  await loadMasterData();
 });
 afterAll(async () => {
   forgetKeptResults();
@@ -69,7 +74,7 @@ describe("overview freshness and problems", () => {
     await startWarmUp();
     const before = await overviewData();
     expect(before.freshness.pendingEntries).toBe(0);
-    insertTallies(rawDb(), ids, categories.map((category) => ({ date: "2026-06-29", line: "L02", shift: "A", category, count: 3 })));
+    insertTallies(rawDb(), ids, categories.map((category) => ({ date: "2026-05-04", line: "L02", shift: "A", category, count: 3 })));
     const after = await overviewData();
     // Within the page bound (15 s) the kept scans are served as they stood, and say so.
     expect(after.freshness.pendingEntries).toBe(categories.length);

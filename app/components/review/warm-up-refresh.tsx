@@ -23,7 +23,7 @@ export function WarmUpRefresh({ href }: { href: string }) {
   return (
     <span className="warm-up-refresh">
       <a href={href}>Refresh now</a>
-      <label>
+      <label className="checkbox">
         <input type="checkbox" checked={auto} onChange={(e) => setAuto(e.target.checked)} /> refresh every {EVERY_MS / 1000} s
       </label>
     </span>
