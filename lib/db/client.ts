@@ -107,19 +107,40 @@ class LinemixSqliteAdapter extends PrismaBetterSqlite3 {
   }
 }
 
+/** Prisma operations that write; the others read. */
+const WRITE_OPERATIONS = new Set([
+  "create",
+  "createMany",
+  "createManyAndReturn",
+  "update",
+  "updateMany",
+  "updateManyAndReturn",
+  "upsert",
+  "delete",
+  "deleteMany",
+  "$executeRaw",
+  "$executeRawUnsafe",
+]);
+
 /**
- * The client with one query extension: an error that is a database condition (full,
- * read-only, busy…; lib/db/errors.ts) gets a digest naming the condition before it
- * leaves, so that a page failing on it can say so plainly in app/error.tsx even in
- * production, where Next passes error pages the digest but not the message.
+ * The client with one query extension that does two things:
+ * - a single write (outside writeTransaction) takes the process-wide write lock. The
+ *   adapter runs every query on its one connection and does not hold other queries back
+ *   while an interactive transaction is open, so without the lock a single write from
+ *   another request ran inside that transaction and was silently undone when it rolled
+ *   back (test/db/write-lock.test.ts). Inside a holder it runs at once (re-entrant).
+ * - an error that is a database condition (full, read-only, busy…; lib/db/errors.ts)
+ *   gets a digest naming the condition before it leaves, so that a page failing on it
+ *   can say so plainly in app/error.tsx even in production, where Next passes error
+ *   pages the digest but not the message.
  */
 function prismaClient(url: string, readonly: boolean): PrismaClient {
   const base = new PrismaClient({ adapter: new LinemixSqliteAdapter(url, readonly) });
   const marked = base.$extends({
     query: {
-      async $allOperations({ args, query }) {
+      async $allOperations({ operation, args, query }) {
         try {
-          return await query(args);
+          return WRITE_OPERATIONS.has(operation) ? await withWriteLock(() => query(args)) : await query(args);
         } catch (error) {
           throw markDatabaseTrouble(error);
         }

@@ -9,7 +9,9 @@ import { AsyncLocalStorage } from "node:async_hooks";
  * the busy timeout — the Prisma transaction, which needs that same thread to finish,
  * cannot progress — and the raw write fails with SQLITE_BUSY after 5 s
  * (test/db/write-lock.test.ts reproduces it). So every in-process write transaction first
- * takes this lock, and waits on the event loop instead of in sqlite3_sleep.
+ * takes this lock, and waits on the event loop instead of in sqlite3_sleep: Prisma
+ * transactions through writeTransaction, single Prisma writes through the client's query
+ * extension, raw writes through withRawWrite (all in lib/db/client.ts and lib/intake).
  *
  * FIFO: a release hands the lock straight to the oldest waiter, so a steady stream of new
  * writers cannot starve an earlier one. A thrown error (or rejected promise) releases it.

@@ -244,3 +244,21 @@ describe("every write transaction in the source goes through the lock", () => {
     for (const f of writers) expect(readFileSync(path.join(root, f), "utf8")).toMatch(/withRawWrite\(/);
   });
 });
+
+describe("single Prisma writes outside a transaction", () => {
+  it("wait for an open write transaction instead of joining it (and being undone by its rollback)", async () => {
+    const held = writeTransaction(async (tx) => {
+      await tx.line.update({ where: { id: plant.lines.L2 }, data: { name: "to be rolled back" } });
+      await sleep(HOLD_MS);
+      throw new Error("rollback");
+    }).catch((error: Error) => error.message);
+    await sleep(50);
+    const t0 = performance.now();
+    // Before the fix this returned after ≈ 2 ms, inside the other transaction, and was lost with it.
+    await db().line.update({ where: { id: plant.lines.L1 }, data: { name: "written outside" } });
+    expect(performance.now() - t0).toBeGreaterThan(HOLD_MS - 100);
+    expect(await held).toBe("rollback");
+    expect((rawDb().prepare("SELECT name FROM Line WHERE id = ?").get(plant.lines.L1) as { name: string }).name).toBe("written outside");
+    await db().line.update({ where: { id: plant.lines.L1 }, data: { name: "Line L1" } });
+  });
+});
