@@ -154,6 +154,10 @@ test("admin creates an API token, sees it once, it works on an API, and revoking
 
   const health = await request.get("/api/health");
   expect(health.status()).toBe(200);
+  // The start-up scan warm-up reports itself (the demo's scans are few and small).
+  const { scans } = (await health.json()) as { scans: { state: string; ready: number; total: number } };
+  expect(["warming", "ready"]).toContain(scans.state);
+  expect(scans.total).toBeGreaterThan(0);
 
   page.once("dialog", (dialog) => dialog.accept());
   await row.getByRole("button", { name: "Revoke" }).click();
