@@ -27,6 +27,9 @@ import { createMasterAction, setActiveAction, updateMasterAction } from "@/app/s
 import { createTokenAction, revokeTokenAction } from "@/app/admin/tokens/actions";
 import { createUserAction } from "@/app/admin/users/actions";
 import { correctEntryAction } from "@/app/entry/corrections/actions";
+import { saveComparisonSettings } from "@/app/comparisons/[code]/settings/actions";
+import { ensureDefaultComparisons, getComparison } from "@/lib/db/comparisons";
+import { IDLE as SETTINGS_IDLE } from "@/lib/review/settings-form";
 import { createSession } from "@/lib/auth/sessions";
 import { closeDb, db, rawDb } from "@/lib/db/client";
 import { correctEntry } from "@/lib/intake/corrections";
@@ -208,6 +211,39 @@ describe("server actions when the database is read-only", () => {
     signedIn(adminToken);
     expect(await createMasterAction(IDLE, form({ kind: "line", code: "RO1", name: "Read-only line" }))).toMatchObject({ ok: true });
     expect(await createUserAction(IDLE, form({ username: "ro-user", role: "engineer", password: "a long enough password" }))).toMatchObject({ ok: true });
+  });
+});
+
+describe("comparison settings when the database is read-only", () => {
+  it("the settings form answers 'read-only' with its own result shape, changes nothing, and saves once writable", async () => {
+    await ensureDefaultComparisons();
+    signedIn(engineerToken);
+    const settings = form({
+      code: "lines",
+      name: "All lines compared (14 days)",
+      windowDays: "14",
+      stepDays: "1",
+      alpha: "0.05",
+      adjust: "bh",
+      minEffect: "0",
+      sparse: "auto",
+      historyWeeks: "8",
+      "lines-all": "on",
+      "shifts-all": "on",
+      "categories-all": "on",
+    });
+    process.env.LINEMIX_DB_READONLY = "1";
+    await closeDb();
+    try {
+      const refused = await saveComparisonSettings(SETTINGS_IDLE, settings);
+      expect(refused).toMatchObject({ status: "error", message: expect.stringMatching(/read-only/) });
+      expect((await getComparison("lines"))?.windowDays).toBe(7);
+    } finally {
+      delete process.env.LINEMIX_DB_READONLY;
+      await closeDb();
+    }
+    expect(await saveComparisonSettings(SETTINGS_IDLE, settings)).toMatchObject({ status: "saved" });
+    expect((await getComparison("lines"))?.windowDays).toBe(14);
   });
 });
 
