@@ -4,6 +4,7 @@ import { usePathname, useRouter, useSearchParams } from "next/navigation";
 import { useCallback, useId, useMemo, useRef, useTransition } from "react";
 import { CartesianGrid, ComposedChart, Line, Scatter, Tooltip, XAxis, YAxis, type TooltipContentProps } from "recharts";
 import { CHART } from "./palette";
+import { AXIS_TICK, dateAxisProps } from "./date-axis";
 import { gridAt, tickFormat } from "./scale";
 import { RATE_PANEL, type RateSeries } from "./timeline-series";
 import { useWidth } from "./use-width";
@@ -67,9 +68,7 @@ export function RateChart({
     next.set("rate", code);
     startTransition(() => router.replace(`${pathname}?${next.toString()}`, { scroll: false }));
   };
-  const tickLabel = (x: number) => series.xTicks.find((t) => t.x === x)?.label ?? "";
   const grid = gridAt(series.y.ticks, series.y.domain);
-  const axisTick = { fill: CHART.axis, fontSize: 12 };
   return (
     <div data-chart="rate">
       <div className="field inline-field no-print">
@@ -95,17 +94,8 @@ export function RateChart({
             title={`Defects per unit, ${group.name}, with u-chart limits`}
           >
             <CartesianGrid stroke={CHART.grid} vertical={false} horizontalCoordinatesGenerator={grid.horizontal} verticalCoordinatesGenerator={grid.vertical} />
-            <XAxis
-              dataKey="x"
-              type="number"
-              domain={series.xDomain}
-              ticks={series.xTicks.map((t) => t.x)}
-              interval={0}
-              tickFormatter={tickLabel}
-              tick={axisTick}
-              allowDataOverflow
-            />
-            <YAxis width={70} tick={axisTick} tickFormatter={tickFormat(series.y.ticks)} domain={series.y.domain} ticks={series.y.ticks} interval={0} allowDataOverflow />
+            <XAxis {...dateAxisProps(series)} />
+            <YAxis width={70} tick={AXIS_TICK} tickFormatter={tickFormat(series.y.ticks)} domain={series.y.domain} ticks={series.y.ticks} interval={0} allowDataOverflow />
             <Tooltip content={tooltip} />
             <Line dataKey="upper" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Upper limit" />
             <Line dataKey="lower" type="stepAfter" stroke={CHART.limit} strokeDasharray="5 3" dot={false} isAnimationActive={false} name="Lower limit" />

@@ -17,6 +17,7 @@ import {
 } from "recharts";
 import { formatP, formatRange, formatV } from "@/lib/review/format";
 import { CHART } from "./palette";
+import { AXIS_TICK, dateAxisProps } from "./date-axis";
 import { gridAt, tickFormat } from "./scale";
 import { EFFECT_PANEL, EVIDENCE_PANEL, type TimelineSeries } from "./timeline-series";
 import { useWidth } from "./use-width";
@@ -29,7 +30,6 @@ interface Row {
 }
 
 const isoOf = (day: number) => new Date(day * 86_400_000).toISOString().slice(0, 10);
-const AXIS_TICK = { fill: CHART.axis, fontSize: 12 };
 /** recharts' YAxis width; the panels' `left` adds the chart's left margin to it. */
 const Y_AXIS = 58;
 
@@ -96,16 +96,7 @@ function EvidencePanel({ code, series, rows, open, tooltip, firstPaint }: PanelP
         title="Evidence per window: minus log10 of the adjusted p-value"
       >
         <CartesianGrid stroke={CHART.grid} vertical={false} horizontalCoordinatesGenerator={grid.horizontal} verticalCoordinatesGenerator={grid.vertical} />
-        <XAxis
-          dataKey="x"
-          type="number"
-          domain={series.xDomain}
-          ticks={series.xTicks.map((t) => t.x)}
-          interval={0}
-          tickFormatter={(x: number) => series.xTicks.find((t) => t.x === x)?.label ?? ""}
-          tick={AXIS_TICK}
-          allowDataOverflow
-        />
+        <XAxis {...dateAxisProps(series)} />
         <YAxis
           width={Y_AXIS}
           domain={series.evidence.domain}
@@ -162,16 +153,7 @@ function EffectPanel({ code, series, rows, open, tooltip, firstPaint }: PanelPro
         title="Bias-corrected Cramér's V per window"
       >
         <CartesianGrid stroke={CHART.grid} vertical={false} horizontalCoordinatesGenerator={grid.horizontal} verticalCoordinatesGenerator={grid.vertical} />
-        <XAxis
-          dataKey="x"
-          type="number"
-          domain={series.xDomain}
-          ticks={series.xTicks.map((t) => t.x)}
-          interval={0}
-          tickFormatter={(x: number) => series.xTicks.find((t) => t.x === x)?.label ?? ""}
-          tick={AXIS_TICK}
-          allowDataOverflow
-        />
+        <XAxis {...dateAxisProps(series)} />
         <YAxis
           width={Y_AXIS}
           domain={series.effect.domain}
