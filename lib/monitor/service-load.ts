@@ -221,6 +221,32 @@ export function addCurrentUnits(db: Database.Database, spec: LoadSpec, cube: Cub
   }
 }
 
+/** A change to one current sum: `delta` on (day, line, shift, category); category null for units. */
+export interface EntryDelta {
+  day: number;
+  lineId: number;
+  shiftId: number;
+  categoryId: number | null;
+  delta: number;
+}
+
+/**
+ * Adds changes to the current sums into a cube built by {@link addCurrentTallies} (or,
+ * with `units`, {@link addCurrentUnits}): each new entry's count, minus the count of each
+ * entry it supersedes (from changesSince). Equal to clearing and reloading the touched
+ * days, because entries are only ever appended, but it costs O(changes) instead of a
+ * re-read of every entry of those days. The caller filters the entries to the
+ * comparison's lines and shifts; other groups, categories and days are skipped here.
+ *
+ * @example
+ * addEntryDeltas(cube, spec, [{ day: 20473, lineId: 2, shiftId: 1, categoryId: 5, delta: 3 }]); // that cell + 3
+ */
+export function addEntryDeltas(cube: Cube, spec: LoadSpec, entries: readonly EntryDelta[], units = false): void {
+  const add = cubeAdder(cube, units ? { ...spec, categoryIds: [0] } : spec);
+  const byLine = spec.groupBy === "line";
+  for (const e of entries) add(e.day, byLine ? e.lineId : e.shiftId, units ? 0 : (e.categoryId ?? -1), e.delta);
+}
+
 function cubeRange(cube: Cube): [string, string] {
   return [isoDate(cube.firstDay), isoDate(cube.firstDay + cube.days - 1)];
 }

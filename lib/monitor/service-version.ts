@@ -99,6 +99,12 @@ export interface TouchedEntry {
   shiftId: number;
   /** null for units. */
   categoryId: number | null;
+  /**
+   * What this entry changes in the current sums: +count (+units) for a new entry, −count
+   * for an entry a new one supersedes. Entries are never updated or deleted, so adding
+   * these deltas to sums taken before the change gives the sums after it.
+   */
+  delta: number;
 }
 
 /** What entries newer than a version touch. */
@@ -114,33 +120,33 @@ export interface Changes {
  * Cost: a rowid range plus a join per new entry.
  *
  * @example
- * changesSince(rawDb(), { tally: 1000, units: 50 }).touched[0]; // { table: "tally", day: 20473, lineId: 2, shiftId: 2, categoryId: 5 }
+ * changesSince(rawDb(), { tally: 1000, units: 50 }).touched[0]; // { table: "tally", day: 20473, lineId: 2, shiftId: 2, categoryId: 5, delta: 3 }
  */
 export function changesSince(db: Database.Database, since: MaxIds): Changes {
   const parseDay = dayNumberCache();
   const changes: Changes = { touched: [], added: { tally: 0, units: 0 } };
   const tallies = db
     .prepare(
-      `SELECT e.productionDate, e.lineId, e.shiftId, e.categoryId, 1 FROM TallyEntry e WHERE e.id > ?
+      `SELECT e.productionDate, e.lineId, e.shiftId, e.categoryId, 1, e.count FROM TallyEntry e WHERE e.id > ?
        UNION ALL
-       SELECT s.productionDate, s.lineId, s.shiftId, s.categoryId, 0 FROM TallyEntry e JOIN TallyEntry s ON s.id = e.supersedesId WHERE e.id > ?`,
+       SELECT s.productionDate, s.lineId, s.shiftId, s.categoryId, 0, -s.count FROM TallyEntry e JOIN TallyEntry s ON s.id = e.supersedesId WHERE e.id > ?`,
     )
     .raw();
-  for (const [date, lineId, shiftId, categoryId, isNew] of tallies.iterate(since.tally, since.tally) as Iterable<
-    [string, number, number, number, number]
+  for (const [date, lineId, shiftId, categoryId, isNew, delta] of tallies.iterate(since.tally, since.tally) as Iterable<
+    [string, number, number, number, number, number]
   >) {
-    changes.touched.push({ table: "tally", day: parseDay(date), lineId, shiftId, categoryId });
+    changes.touched.push({ table: "tally", day: parseDay(date), lineId, shiftId, categoryId, delta });
     changes.added.tally += isNew;
   }
   const units = db
     .prepare(
-      `SELECT e.productionDate, e.lineId, e.shiftId, 1 FROM InspectionCount e WHERE e.id > ?
+      `SELECT e.productionDate, e.lineId, e.shiftId, 1, e.units FROM InspectionCount e WHERE e.id > ?
        UNION ALL
-       SELECT s.productionDate, s.lineId, s.shiftId, 0 FROM InspectionCount e JOIN InspectionCount s ON s.id = e.supersedesId WHERE e.id > ?`,
+       SELECT s.productionDate, s.lineId, s.shiftId, 0, -s.units FROM InspectionCount e JOIN InspectionCount s ON s.id = e.supersedesId WHERE e.id > ?`,
     )
     .raw();
-  for (const [date, lineId, shiftId, isNew] of units.iterate(since.units, since.units) as Iterable<[string, number, number, number]>) {
-    changes.touched.push({ table: "units", day: parseDay(date), lineId, shiftId, categoryId: null });
+  for (const [date, lineId, shiftId, isNew, delta] of units.iterate(since.units, since.units) as Iterable<[string, number, number, number, number]>) {
+    changes.touched.push({ table: "units", day: parseDay(date), lineId, shiftId, categoryId: null, delta });
     changes.added.units += isNew;
   }
   return changes;

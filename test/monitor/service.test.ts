@@ -183,6 +183,37 @@ describe("late and corrected data", () => {
     expect(after.rates).toEqual(scanRates(currentRows(), currentUnits(), linesConfig));
   });
 
+  it("added entries, a correction of one of them and a units change within one patch match fresh scans of all three kinds", async () => {
+    for (const code of ["lines", "l1-shifts", "l3-history"]) await runComparison(code);
+    // A second sheet for cells that already have entries: the current sum is both entries.
+    insertTallies(rawDb(), ids, [
+      { date: "2026-02-24", line: "L01", shift: "B", category: "C03", count: 4 },
+      { date: "2026-02-24", line: "L03", shift: "A", category: "C07", count: 9 },
+    ]);
+    // Corrected before any read: the new entry and its supersession arrive in one change set.
+    const fresh = rawDb().prepare("SELECT MAX(id) FROM TallyEntry").pluck().get() as number;
+    insertTallies(rawDb(), ids, [{ date: "2026-02-25", line: "L03", shift: "A", category: "C07", count: 2 }], [fresh]);
+    correct("2026-02-26", "L01", "A", "C01", 0);
+    const oldUnits = rawDb()
+      .prepare(`SELECT id FROM InspectionCount WHERE productionDate = '2026-02-24' AND lineId = ? AND shiftId = ? ORDER BY id DESC LIMIT 1`)
+      .pluck()
+      .get(ids.line.get("L01"), ids.shift.get("B")) as number;
+    insertUnits(rawDb(), ids, [{ date: "2026-02-24", line: "L01", shift: "B", units: 900 }], [oldUnits]);
+    const lineRun = (await runComparison("lines"))!;
+    expect(lineRun.computed.how).toBe("patched");
+    expect(lineRun.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
+    expect(lineRun.rates).toEqual(scanRates(currentRows(), currentUnits(), linesConfig));
+    const shiftConfig: ScanConfig = { ...linesConfig, compare: "shift", lines: ["L01"], stepDays: 2 };
+    const shiftRun = (await runComparison("l1-shifts"))!;
+    expect(shiftRun.computed.how).toBe("patched");
+    expect(shiftRun.windows).toEqual(scanWindows(currentRows(), shiftConfig).windows);
+    expect(shiftRun.rates).toEqual(scanRates(currentRows(), currentUnits(), shiftConfig));
+    const history = (await runComparison("l3-history"))!;
+    expect(history.computed.how).toBe("patched");
+    const reference = scanHistory(currentRows(), { line: "L03", windowDays: 7, stepDays: 1, historyWeeks: 3, alpha: 0.05, adjust: "bh", minEffect: 0, families });
+    expect(history.windows).toEqual(reference.windows);
+  });
+
   it("entries for a line the scan has not seen yet rebuild it (new group), and match a fresh scan", async () => {
     const before = (await runComparison("lines"))!;
     expect(before.windows[0].groups).not.toContain("L06");
