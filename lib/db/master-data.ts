@@ -3,6 +3,7 @@ import { db, writeTransaction, type TransactionClient } from "./client";
 import { codeSchema } from "../intake/codes";
 import type { Actor } from "../intake/actor";
 import { isClockTime } from "../intake/shift-clock";
+import { describeShiftOverlap, findShiftOverlap } from "../intake/shift-overlap";
 
 /**
  * Master data set-up (lines, shifts, defect categories, products) for the Setup pages.
@@ -116,8 +117,10 @@ export async function createMaster(kind: MasterKind, input: Record<string, unkno
     return await writeTransaction(async (tx) => {
       let row: Record<string, unknown> & { id: number };
       if (kind === "line") row = await tx.line.create({ data: data as { code: string; name: string; displayOrder: number } });
-      else if (kind === "shift")
+      else if (kind === "shift") {
         row = await tx.shift.create({ data: data as { code: string; name: string; startTime: string; endTime: string; displayOrder: number } });
+        await refuseShiftOverlap(tx, row as ShiftClock);
+      }
       else if (kind === "category")
         row = await tx.defectCategory.create({ data: data as { code: string; name: string; family?: string | null; displayOrder: number } });
       else row = await tx.product.create({ data: data as { code: string; name: string } });
@@ -134,6 +137,25 @@ export async function createMaster(kind: MasterKind, input: Record<string, unkno
 
 function entityName(kind: MasterKind): string {
   return kind === "line" ? "Line" : kind === "shift" ? "Shift" : kind === "category" ? "DefectCategory" : "Product";
+}
+
+type ShiftClock = { id: number; code: string; startTime: string; endTime: string; active: boolean };
+
+/**
+ * Throws a MasterDataError naming the overlap when an active shift, as just written inside
+ * the transaction, shares minutes of the day with another active shift; the caller's
+ * transaction then rolls the write back. Checked inside the write, not before it, so two
+ * admins saving overlapping shifts at the same moment cannot both pass.
+ */
+async function refuseShiftOverlap(tx: TransactionClient, shift: ShiftClock): Promise<void> {
+  if (!shift.active) return;
+  const others = await tx.shift.findMany({
+    where: { active: true, id: { not: shift.id } },
+    orderBy: [{ displayOrder: "asc" }, { code: "asc" }],
+    select: { code: true, startTime: true, endTime: true },
+  });
+  const overlap = findShiftOverlap(shift, others);
+  if (overlap) throw new MasterDataError(describeShiftOverlap(shift, overlap), "startTime");
 }
 
 async function findRow(tx: TransactionClient, kind: MasterKind, id: number) {
@@ -161,7 +183,11 @@ export async function updateMaster(
     }
     let after: Record<string, unknown>;
     if (kind === "line") after = await tx.line.update({ where: { id }, data });
-    else if (kind === "shift") after = await tx.shift.update({ where: { id }, data });
+    else if (kind === "shift") {
+      after = await tx.shift.update({ where: { id }, data });
+      // A retired shift may keep any times; they are checked when it comes back into use.
+      await refuseShiftOverlap(tx, after as ShiftClock);
+    }
     else if (kind === "category") after = await tx.defectCategory.update({ where: { id }, data });
     else after = await tx.product.update({ where: { id }, data });
     const action = change.active === undefined ? "update" : change.active ? "activate" : "retire";

@@ -20,7 +20,9 @@ describe("master data setup", () => {
   it("creates a line, a shift with clock times, a category and a product, each audited", async () => {
     const admin = plant.users.admin;
     const line = await createMaster("line", { code: "L3", name: "Line three", displayOrder: "3" }, admin);
-    await createMaster("shift", { code: "W", name: "Weekend", startTime: "07:00", endTime: "19:00" }, admin);
+    // The fixture's shifts A, B and N cover the whole day: retire N and add its successor.
+    await updateMaster("shift", plant.shifts.N, { active: false }, admin);
+    await createMaster("shift", { code: "W", name: "Night (new)", startTime: "22:00", endTime: "06:00" }, admin);
     await createMaster("category", { code: "bubble", name: "Bubble", family: "surface", displayOrder: 5 }, admin);
     await createMaster("product", { code: "PY", name: "Product Y" }, admin);
     expect(audits("line.create")).toEqual([expect.objectContaining({ actorName: "adm (test)", entityId: String(line) })]);
@@ -36,10 +38,10 @@ describe("master data setup", () => {
   });
 
   it("updates with before and after in the audit", async () => {
-    await updateMaster("shift", plant.shifts.B, { fields: { name: "Late", startTime: "14:00", endTime: "22:30", displayOrder: 1 } }, plant.users.admin);
+    await updateMaster("shift", plant.shifts.B, { fields: { name: "Late", startTime: "14:00", endTime: "21:30", displayOrder: 1 } }, plant.users.admin);
     const [event] = audits("shift.update");
     expect(JSON.parse(event.before)).toMatchObject({ endTime: "22:00" });
-    expect(JSON.parse(event.after)).toMatchObject({ endTime: "22:30", name: "Late" });
+    expect(JSON.parse(event.after)).toMatchObject({ endTime: "21:30", name: "Late" });
   });
 
   it("retiring a category keeps its history, stops new API counts, and still allows importing history", async () => {
@@ -70,7 +72,12 @@ describe("master data setup", () => {
     await importCsv(Buffer.from("date,shift,line,category,count\n2026-03-02,S9,L1,dent,1\n"), { actor: system, addMissing: true });
     const id = (rawDb().prepare("SELECT id FROM Shift WHERE code = 'S9'").get() as { id: number }).id;
     await expect(updateMaster("shift", id, { active: true }, plant.users.admin)).rejects.toThrow(/clock times/);
-    await updateMaster("shift", id, { fields: { name: "Swing", startTime: "10:00", endTime: "18:00", displayOrder: 9 }, active: true }, plant.users.admin);
-    expect(rawDb().prepare("SELECT active, startTime FROM Shift WHERE id = ?").get(id)).toEqual({ active: 1, startTime: "10:00" });
+    // Times that overlap an active shift are refused inside the write, and nothing changes.
+    await expect(
+      updateMaster("shift", id, { fields: { name: "Swing", startTime: "10:00", endTime: "18:00", displayOrder: 9 }, active: true }, plant.users.admin),
+    ).rejects.toThrow(/^Shift S9 \(10:00–18:00\) would overlap shift A \(06:00–14:00\) from 10:00 to 14:00\./);
+    expect(rawDb().prepare("SELECT active, startTime FROM Shift WHERE id = ?").get(id)).toEqual({ active: 0, startTime: "00:00" });
+    await updateMaster("shift", id, { fields: { name: "Changeover", startTime: "21:30", endTime: "22:00", displayOrder: 9 }, active: true }, plant.users.admin);
+    expect(rawDb().prepare("SELECT active, startTime FROM Shift WHERE id = ?").get(id)).toEqual({ active: 1, startTime: "21:30" });
   });
 });

@@ -295,6 +295,21 @@ describe("setup refuses overlapping shifts", () => {
     expect(!back.ok && back.error).toMatch(/^Shift B \(14:00–22:00\) would overlap shift X \(14:00–20:00\) from 14:00 to 20:00\./);
     expect(count("SELECT active AS n FROM Shift WHERE id = ?", plant.shifts.B)).toBe(0);
   });
+
+  it("two admins adding overlapping shifts at the same moment: one is added, the other refused (the check is inside the write)", async () => {
+    // Free 20:00–22:00 for the race: X (14:00–20:00) and B (retired) from the test above.
+    const before = count("SELECT COUNT(*) AS n FROM Shift WHERE active = 1");
+    const [first, second] = await Promise.all([
+      createMasterAction(IDLE, form({ kind: "shift", code: "Y1", name: "Late extra", startTime: "20:00", endTime: "21:30", displayOrder: "6" })),
+      createMasterAction(IDLE, form({ kind: "shift", code: "Y2", name: "Late extra", startTime: "20:30", endTime: "22:00", displayOrder: "7" })),
+    ]);
+    expect([first.ok, second.ok].sort()).toEqual([false, true]);
+    const refused = first.ok ? second : first;
+    expect(!refused.ok && refused).toMatchObject({ status: 400, fieldErrors: { startTime: "Check the clock times." } });
+    expect(!refused.ok && refused.error).toMatch(/^Shift Y[12] \(\d\d:\d\d–\d\d:\d\d\) would overlap shift Y[12] .* from 20:30 to 21:30\./);
+    expect(count("SELECT COUNT(*) AS n FROM Shift WHERE active = 1")).toBe(before + 1);
+    expect(count("SELECT COUNT(*) AS n FROM AuditEvent WHERE action = 'shift.create' AND entityId IN (SELECT CAST(id AS TEXT) FROM Shift WHERE code IN ('Y1', 'Y2'))")).toBe(1);
+  });
 });
 
 describe("digests for the error page", () => {
