@@ -2,6 +2,7 @@ import { databaseTrouble } from "@/lib/db/errors";
 import { countOpenEpisodes } from "@/lib/db/episodes";
 import { logServerError } from "@/lib/http/errors";
 import { PAGE_MAX_LAG_MS } from "@/lib/monitor/service";
+import { keptUntilRecordsChange } from "@/lib/review/kept";
 import { liveSourceWith } from "./live-source";
 import { syncAllComparisons } from "./sync";
 
@@ -23,6 +24,9 @@ export const SYNC_WAIT_MS = 250;
 
 // Kept scans up to the pages' bound behind: a header must not patch every scan on every page.
 const headerSource = liveSourceWith({ maxLagMs: PAGE_MAX_LAG_MS });
+
+// The count changes only with the records: kept until they change, not re-counted per page.
+const keptCount = keptUntilRecordsChange(() => countOpenEpisodes(), 1);
 
 let last = 0;
 let running: Promise<void> | null = null;
@@ -48,5 +52,5 @@ export async function openEpisodeCount(): Promise<number> {
   const waited = new Promise<void>((resolve) => (timer = setTimeout(resolve, SYNC_WAIT_MS)));
   await Promise.race([syncNowAndThen(), waited]);
   clearTimeout(timer);
-  return countOpenEpisodes();
+  return keptCount("open");
 }

@@ -20,9 +20,7 @@ interface Entry<V> {
  * Wraps an async loader so that, per key, its result is reused while nothing has been
  * written to the database; any write drops every kept entry. At most `size` keys are
  * kept (least recently used dropped first). A rejected load is not kept, nor a value
- * for which `keep` says no (a page built from a scan that had not yet taken in every
- * entry: the scan catches up in the background without writing anything, so that
- * value would otherwise outlive its staleness).
+ * for which `keep` says no.
  *
  * The stamp is read before the load: a write that lands during the load changes the
  * stamp, so the next call loads again rather than keeping a value that may predate it.
@@ -36,16 +34,82 @@ interface Entry<V> {
  * await names("all"); // the same object, until the next commit to the file
  */
 export function keptUntilWrite<V>(load: (key: string) => Promise<V>, size = 16, keep: (value: V) => boolean = () => true): (key: string) => Promise<V> {
+  return keptWhileStamp(writeStamp, load, size, keep);
+}
+
+/**
+ * Like {@link keptUntilWrite}, but dropped only when the records the review pages read
+ * besides entries and scans change ({@link recordsStamp}): master data, saved
+ * comparisons, flagged-period records. A floor sheet, a sign-in or a token's last-seen
+ * time does not drop it — under a steady stream of floor sheets every page would
+ * otherwise reload master data and comparisons through Prisma.
+ *
+ * Cost: as keptUntilWrite's, plus one small aggregate statement per commit.
+ *
+ * @example
+ * const comparisons = keptUntilRecordsChange(() => listComparisons(), 1);
+ * await comparisons("all"); // the same array after any number of floor sheets
+ */
+export function keptUntilRecordsChange<V>(load: (key: string) => Promise<V>, size = 16, keep: (value: V) => boolean = () => true): (key: string) => Promise<V> {
+  return keptWhileStamp(recordsStamp, load, size, keep);
+}
+
+function writeStamp(connection: ReturnType<typeof rawDb>): string {
+  const { dataVersion, totalChanges } = connectionStamp(connection);
+  return `${dataVersion}:${totalChanges}`;
+}
+
+const recordsStamps = new WeakMap<ReturnType<typeof rawDb>, { write: ConnectionStamp; records: string }>();
+
+/**
+ * A stamp of the records besides entries that the review pages show: counts and last ids
+ * or change times of master data, saved comparisons, flagged-period records, their notes
+ * and snapshots, and the last audit event (every setup change and every workflow step of
+ * a record writes one in its transaction, lib/db/master-data.ts, lib/db/audit.ts). Moves
+ * on any change to them; not on new entries, sessions or tokens. Read again only when
+ * something was committed (the connection stamp moved).
+ *
+ * Cost: two pragma reads; after a commit, one statement over small tables (≈ 0.1 ms for
+ * a plant with a few hundred flagged periods).
+ *
+ * @example
+ * recordsStamp(rawDb()); // "12|3|2026-12-01T06:00:00.000Z|…"
+ */
+export function recordsStamp(connection: ReturnType<typeof rawDb> = rawDb()): string {
+  const write = connectionStamp(connection);
+  const last = recordsStamps.get(connection);
+  if (last && sameStamp(last.write, write)) return last.records;
+  const row = connection
+    .prepare(
+      `SELECT (SELECT MAX(id) FROM AuditEvent), (SELECT COUNT(*) FROM Line), (SELECT COUNT(*) FROM Shift),
+              (SELECT COUNT(*) FROM DefectCategory), (SELECT COUNT(*) FROM Product),
+              (SELECT COUNT(*) || '/' || MAX(updatedAt) FROM Comparison),
+              (SELECT COUNT(*) || '/' || MAX(updatedAt) FROM Episode),
+              (SELECT MAX(id) FROM EpisodeNote), (SELECT MAX(id) FROM EpisodeSnapshot)`,
+    )
+    .raw()
+    .get() as unknown[];
+  const records = row.map((v) => String(v ?? "")).join("|");
+  recordsStamps.set(connection, { write, records });
+  return records;
+}
+
+function keptWhileStamp<V>(
+  stampOf: (connection: ReturnType<typeof rawDb>) => string,
+  load: (key: string) => Promise<V>,
+  size: number,
+  keep: (value: V) => boolean,
+): (key: string) => Promise<V> {
   if (!(size >= 1) || !Number.isInteger(size)) throw new RangeError(`size must be a positive whole number, got ${size}`);
   let db: ReturnType<typeof rawDb> | null = null;
-  let stamp: ConnectionStamp | null = null;
+  let stamp: string | null = null;
   let entries = new Map<string, Entry<V>>();
   let clock = 0;
   return (key: string) => {
     // A new connection (another file, a reopened one) has stamps of its own: start over.
     const connection = rawDb();
-    const now = connectionStamp(connection);
-    if (connection !== db || !stamp || !sameStamp(stamp, now)) {
+    const now = stampOf(connection);
+    if (connection !== db || stamp !== now) {
       db = connection;
       stamp = now;
       entries = new Map();
@@ -64,12 +128,50 @@ export function keptUntilWrite<V>(load: (key: string) => Promise<V>, size = 16, 
     value.then((v) => {
       if (!keep(v)) drop();
     }, drop);
-    if (kept.size > size) {
-      let oldest: string | null = null;
-      let least = Infinity;
-      for (const [k, e] of kept) if (e.used < least) [oldest, least] = [k, e.used];
-      if (oldest !== null) kept.delete(oldest);
+    dropOldest(kept, size);
+    return value;
+  };
+}
+
+function dropOldest<V>(kept: Map<string, Entry<V>>, size: number): void {
+  if (kept.size <= size) return;
+  let oldest: string | null = null;
+  let least = Infinity;
+  for (const [k, e] of kept) if (e.used < least) [oldest, least] = [k, e.used];
+  if (oldest !== null) kept.delete(oldest);
+}
+
+/**
+ * Per key, the value built from a list of inputs, reused while every input is the very
+ * same (===) as last time: the review pages pass the kept scan results they read (the
+ * scan service hands out the same arrays until it patches them), the records stamp and
+ * the plain values they show, so a page is shaped again only when one of them changed —
+ * not on every floor sheet. At most `size` keys (least recently used dropped first); a
+ * rejected build is not kept.
+ *
+ * Cost: one comparison per input per call.
+ *
+ * @example
+ * const shaped = keptWhileSame<Overview>(1);
+ * await shaped("overview", [runs[0].windows, stamp], () => build()); // builds
+ * await shaped("overview", [runs[0].windows, stamp], () => build()); // the same object
+ */
+export function keptWhileSame<V>(size = 16): (key: string, inputs: readonly unknown[], build: () => Promise<V>) => Promise<V> {
+  if (!(size >= 1) || !Number.isInteger(size)) throw new RangeError(`size must be a positive whole number, got ${size}`);
+  const entries = new Map<string, Entry<V> & { inputs: readonly unknown[] }>();
+  let clock = 0;
+  return (key, inputs, build) => {
+    const hit = entries.get(key);
+    if (hit && hit.inputs.length === inputs.length && hit.inputs.every((v, i) => v === inputs[i])) {
+      hit.used = ++clock;
+      return hit.value;
     }
+    const value = build();
+    entries.set(key, { value, used: ++clock, inputs: [...inputs] });
+    value.catch(() => {
+      if (entries.get(key)?.value === value) entries.delete(key);
+    });
+    dropOldest(entries, size);
     return value;
   };
 }

@@ -14,29 +14,23 @@ import { combineFreshness, type WarmUpNote } from "./freshness";
 import { shapeTimeline } from "./timeline";
 import { lastCompleteWeek, parseIsoWeek, shapeWeek, shiftWeek, type IsoWeekRef, type WeekCounts } from "./week";
 import { shapeWindow } from "./window";
-import { keptUntilWrite } from "./kept";
+import { keptUntilRecordsChange, keptUntilWrite, keptWhileSame, recordsStamp } from "./kept";
 
 /**
- * Server-side loaders of the review pages: read, scan (cached), shape. Each page's data
- * is kept until the next write to the database (lib/review/kept.ts), so a repeated view
- * costs no query and no shaping; the objects returned are shared: read them only.
+ * Server-side loaders of the review pages: read, scan (cached), shape. A page's shaped
+ * data is kept while its inputs are the same (lib/review/kept.ts): the kept scan results
+ * the service hands out (the same arrays until it patches them, at most every few seconds
+ * while floor sheets arrive), the records stamp (master data, comparisons, flagged-period
+ * records) and the last data date. So a floor sheet does not make every page reload and
+ * reshape; only the freshness note ("results as of …, N entries since") is worked out
+ * per request. The objects returned are shared: read them only. `kept` is the part that
+ * stays the same object while nothing it shows changed, for building markup once per it.
  */
 
-/**
- * Entries committed that the scan behind a page has not taken in yet: the service may
- * hand a page a kept scan a few seconds behind the floor, brought up to date in the
- * background. A page built from such a scan is shown but not kept.
- */
-function pendingEntries(run: ComparisonRun): number {
-  return run.computed?.pendingEntries ?? 0;
-}
-
-const current = (data: { current: boolean } | null) => data === null || data.current;
-
-const keptPlant = keptUntilWrite(() => loadMasterData(), 1);
-const keptNames = keptUntilWrite(async () => namesFrom(await keptPlant("plant")), 1);
-const keptComparisons = keptUntilWrite(() => listComparisons(), 1);
-const keptComparison = keptUntilWrite((code) => getComparison(code), 64);
+const keptPlant = keptUntilRecordsChange(() => loadMasterData(), 1);
+const keptNames = keptUntilRecordsChange(async () => namesFrom(await keptPlant("plant")), 1);
+const keptComparisons = keptUntilRecordsChange(() => listComparisons(), 1);
+const keptComparison = keptUntilRecordsChange((code) => getComparison(code), 64);
 
 function names(): Promise<Names> {
   return keptNames("names");
@@ -73,59 +67,62 @@ export async function episodeHrefs(code: string, episodes: readonly Episode[]): 
   return out;
 }
 
-/** The overview's rows, counts and data date (kept until the next write). */
-export function overviewData() {
-  return keptOverview("overview");
-}
-
-const keptOverview = keptUntilWrite(loadOverview, 1, current);
-
-async function loadOverview() {
+/** The overview's rows, counts and data date (shaped again only when a scan, a record or the data date changed). */
+export async function overviewData() {
   const [comparisons, n] = await Promise.all([keptComparisons("all"), names()]);
   // During the warm-up after a start, the overview shows the comparisons already built
   // and lists the others as being computed, instead of waiting for all of them.
   const warming = warmUpStatus().state === "warming";
+  const runs: (ComparisonRun | null)[] = [];
+  for (const c of comparisons) runs.push(warming ? runComparisonIfReady(c) : await runComparison(c));
+  const last = lastDataDate();
+  const inputs = [comparisons, n, last, recordsStamp(), ...runs.map((r) => r?.windows ?? null), ...runs.map((r) => r?.rateWindows ?? null)];
+  const kept = await keptOverview("overview", inputs, async () => shapeOverviewOf(comparisons, runs, n, last));
+  const freshness = combineFreshness(runs.map((r) => r?.computed));
+  return { ...kept, freshness, kept };
+}
+
+const keptOverview = keptWhileSame<ReturnType<typeof shapeOverviewOf>>(1);
+
+function shapeOverviewOf(comparisons: readonly ComparisonRecord[], runs: readonly (ComparisonRun | null)[], n: Names, last: string | null) {
   const inputs = [];
-  const runs: ComparisonRun[] = [];
   const waiting: string[] = [];
-  for (const c of comparisons) {
-    const run = warming ? runComparisonIfReady(c) : await runComparison(c);
+  for (const [i, c] of comparisons.entries()) {
+    const run = runs[i];
     if (!run) {
       waiting.push(c.name);
       continue;
     }
-    runs.push(run);
     const signals = rateSignalsOf(run.rateWindows.at(-1) ?? null, c, n).map((s) => s.groupName);
     inputs.push({ comparison: c, windows: run.windows, episodes: run.episodes, rateSignals: signals, problem: run.problem });
   }
   const warmUp: WarmUpNote | null = waiting.length ? { ready: comparisons.length - waiting.length, total: comparisons.length, waiting } : null;
-  const freshness = combineFreshness(runs.map((r) => r.computed));
-  const last = lastDataDate();
   return {
     ...shapeOverview(inputs, n),
     lastDate: last,
     lastDateText: last ? formatDay(last) : null,
-    freshness,
     warmUp,
-    current: freshness.pendingEntries === 0 && warmUp === null,
   };
 }
 
-/** One comparison's timeline, episodes and window lists; null when no such comparison (kept until the next write). */
-export function timelineData(code: string, rateGroup: string | null = null) {
-  return keptTimeline(JSON.stringify([code, rateGroup]));
+// What a comparison's shaped page depends on besides the comparison and names.
+function runInputs(run: ComparisonRun): unknown[] {
+  return [run.comparison, run.windows, run.rateWindows, run.problem, recordsStamp()];
 }
 
-const keptTimeline = keptUntilWrite((key) => {
-  const [code, rateGroup] = JSON.parse(key) as [string, string | null];
-  return loadTimeline(code, rateGroup);
-}, 16, current);
-
-async function loadTimeline(code: string, rateGroup: string | null) {
+/** One comparison's timeline, episodes and window lists; null when no such comparison. */
+export async function timelineData(code: string, rateGroup: string | null = null) {
   const c = await keptComparison(code);
   if (!c) return null;
   const n = await names();
   const run = await runComparison(c);
+  const kept = await keptTimeline(JSON.stringify([code, rateGroup]), [n, ...runInputs(run)], () => shapeTimelineOf(c, run, n, rateGroup));
+  return { ...kept, freshness: combineFreshness([run.computed]), kept };
+}
+
+const keptTimeline = keptWhileSame<Awaited<ReturnType<typeof shapeTimelineOf>>>(16);
+
+async function shapeTimelineOf(c: ComparisonRecord, run: ComparisonRun, n: Names, rateGroup: string | null) {
   const rates = rateSeries(run);
   const timeline = shapeTimeline(c, run.windows, run.episodes, n, rates, rateGroup);
   const flagged = run.windows.filter((w) => w.flagged);
@@ -141,30 +138,25 @@ async function loadTimeline(code: string, rateGroup: string | null) {
     windows: run.windows,
     names: n,
     problem: run.problem,
-    freshness: combineFreshness([run.computed]),
-    current: pendingEntries(run) === 0,
   };
 }
 
-/** One window in full, its neighbours and episode; null when no such comparison (kept until the next write). */
-export function windowData(code: string, start: string) {
-  return keptWindow(JSON.stringify([code, start]));
-}
-
-const keptWindow = keptUntilWrite((key) => {
-  const [code, start] = JSON.parse(key) as [string, string];
-  return loadWindow(code, start);
-}, 32, current);
-
-async function loadWindow(code: string, start: string) {
+/** One window in full, its neighbours and episode; null when no such comparison. */
+export async function windowData(code: string, start: string) {
   const c = await keptComparison(code);
   if (!c) return null;
   const n = await names();
   const run = await runComparison(c);
+  const kept = await keptWindow(JSON.stringify([code, start]), [n, ...runInputs(run)], () => shapeWindowOf(c, run, n, start));
+  return { ...kept, freshness: combineFreshness([run.computed]), kept };
+}
+
+const keptWindow = keptWhileSame<Awaited<ReturnType<typeof shapeWindowOf>>>(32);
+
+async function shapeWindowOf(c: ComparisonRecord, run: ComparisonRun, n: Names, start: string) {
   const index = run.windows.findIndex((w) => w.start === start);
-  const fresh = pendingEntries(run) === 0;
-  const about = { problem: run.problem, freshness: combineFreshness([run.computed]), current: fresh };
-  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null, ...about };
+  const about = { problem: run.problem };
+  if (index < 0) return { comparison: c, view: null, window: null, neighbours: null, episode: null, ...about };
   const w = run.windows[index];
   const neighbours = {
     previous: index > 0 ? run.windows[index - 1].start : null,

@@ -50,14 +50,26 @@ export function runComparisonIfReady(c: ComparisonRecord): ComparisonRun | null 
   return run === null ? null : runOf(c, run ?? null);
 }
 
+// The rate windows lined up with the mix windows, once per kept scan result: the same
+// array while the service hands out the same result, so pages can tell nothing changed.
+const lined = new WeakMap<ServiceRun["windows"], { rates: ServiceRun["rates"]; rateWindows: (RateWindow | null)[] }>();
+
+function rateWindowsOf(run: ServiceRun): (RateWindow | null)[] {
+  const hit = lined.get(run.windows);
+  if (hit && hit.rates === run.rates) return hit.rateWindows;
+  const byStart = new Map(run.rates.windows.map((w) => [w.start, w]));
+  const rateWindows = run.windows.map((w) => byStart.get(w.start) ?? null);
+  lined.set(run.windows, { rates: run.rates, rateWindows });
+  return rateWindows;
+}
+
 function runOf(c: ComparisonRecord, run: ServiceRun | null): ComparisonRun {
   if (!run) return { comparison: c, ...EMPTY };
-  const byStart = new Map(run.rates.windows.map((w) => [w.start, w]));
   return {
     comparison: c,
     windows: run.windows,
     episodes: run.episodes,
-    rateWindows: run.windows.map((w) => byStart.get(w.start) ?? null),
+    rateWindows: rateWindowsOf(run),
     lastDate: run.lastDate,
     problem: run.problem,
     computed: run.computed,

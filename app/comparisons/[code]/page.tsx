@@ -30,7 +30,7 @@ export async function generateMetadata({ params }: Params): Promise<Metadata> {
 
 const one = (v: string | string[] | undefined) => (Array.isArray(v) ? v[0] : v);
 
-type Data = NonNullable<Awaited<ReturnType<typeof timelineData>>>;
+type Data = NonNullable<Awaited<ReturnType<typeof timelineData>>>["kept"];
 
 /** What the charts and window lists draw, built once per kept timeline (lib/review/kept.ts). */
 const drawn = builtOncePer((data: Data) => {
@@ -65,7 +65,7 @@ export default async function TimelinePage({ params, searchParams }: Params) {
   const latest = data.windows.at(-1);
   const base = `/comparisons/${encodeURIComponent(c.code)}`;
   const rowName = (r: string) => names.row(c.compare, r, c.historyWeeks);
-  const { series, firstPaint, rate, rateFirstPaint: ratePaint, recent, flagged } = drawn(data);
+  const { series, firstPaint, rate, rateFirstPaint: ratePaint, recent, flagged } = drawn(data.kept);
   return (
     <>
       <p className="crumbs">
@@ -196,7 +196,7 @@ export default async function TimelinePage({ params, searchParams }: Params) {
         {showAll ? (
           <>
             <h3>All {data.windows.length} windows, newest first</h3>
-            <SoftLinks className="table-scroll" html={allWindows(data)} />
+            <SoftLinks className="table-scroll" html={allWindows(data.kept)} />
           </>
         ) : (
           <p>
