@@ -24,10 +24,18 @@ export interface ConnectionStamp {
  * connectionStamp(rawDb()); // { dataVersion: 3, totalChanges: 0 }
  */
 export function connectionStamp(db: Database.Database): ConnectionStamp {
-  return {
-    dataVersion: Number(db.pragma("data_version", { simple: true })),
-    totalChanges: Number(db.prepare("SELECT total_changes()").pluck().get()),
-  };
+  const [dataVersion, totalChanges] = stampStatement(db).get() as [number, number];
+  return { dataVersion: Number(dataVersion), totalChanges: Number(totalChanges) };
+}
+
+// Prepared once per connection: a page asks for the stamp several times, and
+// db.pragma() would prepare a statement on every call.
+const stampStatements = new WeakMap<Database.Database, Database.Statement>();
+
+function stampStatement(db: Database.Database): Database.Statement {
+  let st = stampStatements.get(db);
+  if (!st) stampStatements.set(db, (st = db.prepare("SELECT data_version, total_changes() FROM pragma_data_version").raw()));
+  return st;
 }
 
 /**
