@@ -18,6 +18,8 @@ const request = vi.hoisted(() => ({ cookie: "", headers: {} as Record<string, st
 vi.mock("next/headers", () => ({
   cookies: async () => ({
     get: (name: string) => (name === "linemix_session" && request.cookie ? { name, value: request.cookie } : undefined),
+    set: () => undefined,
+    delete: () => undefined,
   }),
   headers: async () => new Headers(request.headers),
 }));
@@ -28,6 +30,8 @@ import { createTokenAction, revokeTokenAction } from "@/app/admin/tokens/actions
 import { createUserAction } from "@/app/admin/users/actions";
 import { correctEntryAction } from "@/app/entry/corrections/actions";
 import { saveComparisonSettings } from "@/app/comparisons/[code]/settings/actions";
+import { signInWithPassword } from "@/app/signin/actions";
+import { hashPassword } from "@/lib/auth/password";
 import { ensureDefaultComparisons, getComparison } from "@/lib/db/comparisons";
 import { IDLE as SETTINGS_IDLE } from "@/lib/review/settings-form";
 import { createSession } from "@/lib/auth/sessions";
@@ -244,6 +248,32 @@ describe("comparison settings when the database is read-only", () => {
     }
     expect(await saveComparisonSettings(SETTINGS_IDLE, settings)).toMatchObject({ status: "saved" });
     expect((await getComparison("lines"))?.windowDays).toBe(14);
+  });
+});
+
+describe("sign-in on a read-only database", () => {
+  it("answers the form with the plain message, opens no session, and signs in once writable", async () => {
+    await db().user.update({ where: { id: plant.users.engineer.userId! }, data: { passwordHash: await hashPassword("a long test passphrase") } });
+    const sessions = () => count("SELECT COUNT(*) AS n FROM Session");
+    const before = sessions();
+    const fields = { username: "eng", password: "a long test passphrase", next: "/" };
+    // A browser without a session (signing in revokes the session its cookie names).
+    request.cookie = "";
+    process.env.LINEMIX_DB_READONLY = "1";
+    await closeDb();
+    try {
+      const refused = await signInWithPassword({ ok: false, error: "" }, form(fields));
+      expect(refused.ok).toBe(false);
+      expect(!refused.ok && refused.error).toMatch(/read-only/);
+      expect(!refused.ok && refused.error).not.toMatch(/SQLITE|Prisma/);
+      expect(sessions()).toBe(before);
+    } finally {
+      delete process.env.LINEMIX_DB_READONLY;
+      await closeDb();
+    }
+    // Writable again: the same form signs in (Next's redirect is thrown as its digest) and stores one session.
+    await expect(signInWithPassword({ ok: false, error: "" }, form(fields))).rejects.toMatchObject({ digest: expect.stringMatching(/^NEXT_REDIRECT/) });
+    expect(sessions()).toBe(before + 1);
   });
 });
 
