@@ -81,6 +81,14 @@ function correct(date: string, line: string, shift: string, category: string, co
   insertTallies(rawDb(), ids, [{ date, line, shift, category, count }], [old ?? null]);
 }
 
+/** The newest inspected-units entry of one sheet (date, line, shift), to supersede it. */
+function latestUnitsId(date: string, line: string, shift: string): number {
+  return rawDb()
+    .prepare(`SELECT id FROM InspectionCount WHERE productionDate = ? AND lineId = ? AND shiftId = ? ORDER BY id DESC LIMIT 1`)
+    .pluck()
+    .get(date, ids.line.get(line), ids.shift.get(shift)) as number;
+}
+
 describe("runComparison", () => {
   it("equals scanWindows and scanRates over the same current rows", async () => {
     const run = (await runComparison("lines"))!;
@@ -170,11 +178,7 @@ describe("late and corrected data", () => {
 
   it("a units correction changes only the rate windows covering its date", async () => {
     const before = (await runComparison("lines"))!;
-    const old = rawDb()
-      .prepare(`SELECT id FROM InspectionCount WHERE productionDate = '2026-01-30' AND lineId = ? AND shiftId = ? ORDER BY id DESC LIMIT 1`)
-      .pluck()
-      .get(ids.line.get("L01"), ids.shift.get("C")) as number;
-    insertUnits(rawDb(), ids, [{ date: "2026-01-30", line: "L01", shift: "C", units: 100 }], [old]);
+    insertUnits(rawDb(), ids, [{ date: "2026-01-30", line: "L01", shift: "C", units: 100 }], [latestUnitsId("2026-01-30", "L01", "C")]);
     const after = (await runComparison("lines"))!;
     expect(after.computed).toMatchObject({ how: "patched", retestedWindows: 7 });
     expect(after.windows.map((w) => w.chiSquare)).toEqual(before.windows.map((w) => w.chiSquare));
@@ -194,11 +198,7 @@ describe("late and corrected data", () => {
     const fresh = rawDb().prepare("SELECT MAX(id) FROM TallyEntry").pluck().get() as number;
     insertTallies(rawDb(), ids, [{ date: "2026-02-25", line: "L03", shift: "A", category: "C07", count: 2 }], [fresh]);
     correct("2026-02-26", "L01", "A", "C01", 0);
-    const oldUnits = rawDb()
-      .prepare(`SELECT id FROM InspectionCount WHERE productionDate = '2026-02-24' AND lineId = ? AND shiftId = ? ORDER BY id DESC LIMIT 1`)
-      .pluck()
-      .get(ids.line.get("L01"), ids.shift.get("B")) as number;
-    insertUnits(rawDb(), ids, [{ date: "2026-02-24", line: "L01", shift: "B", units: 900 }], [oldUnits]);
+    insertUnits(rawDb(), ids, [{ date: "2026-02-24", line: "L01", shift: "B", units: 900 }], [latestUnitsId("2026-02-24", "L01", "B")]);
     const lineRun = (await runComparison("lines"))!;
     expect(lineRun.computed.how).toBe("patched");
     expect(lineRun.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
