@@ -263,9 +263,9 @@ export type PatchOutcome = { rebuilt: false; retested: number[] } | { rebuilt: t
 
 /**
  * Applies entries that arrived after the live scan was built: adds their count changes
- * (new entries, minus the entries they supersede) to the kept sums, retests only the windows covering those days (for a history scan also the
- * windows whose baseline covers them), extending the plan when data arrive past the last
- * day. Returns rebuilt: true (without patching) when the change cannot be patched: a new
+ * (new entries, minus the entries they supersede) to the kept sums, retests only the
+ * windows covering the days they touch (for a history scan also the windows whose
+ * baseline covers them), extending the plan when data arrive past the last day. Returns rebuilt: true (without patching) when the change cannot be patched: a new
  * first day, a shorter range, or a group or category the scan has not seen.
  * Cost: O(changes) plus the retested windows and two date-range probes — no re-read of
  * the touched days (a bench day posted to by 20 clients grew to 100,000 entries).

@@ -138,14 +138,14 @@ function indexTable(ids: number[]): Int32Array {
 
 /**
  * Adds the current tallies (optionally only of `dates`) into a cube whose groups and
- * categories are `spec.groupIds` / `spec.categoryIds`. The caller zeroes the days first
- * when reloading them.
+ * categories are `spec.groupIds` / `spec.categoryIds` (the cube starts at zero; later
+ * changes are added with {@link addEntryDeltas}).
  *
  * Cost: one grouped pass over the matching entries plus an index range over corrections;
  * ≈ 1 s for two million entries.
  *
  * @example
- * addCurrentTallies(rawDb(), spec, cube, ["2026-01-20"]); // reloads one day (after clearDays)
+ * addCurrentTallies(rawDb(), spec, cube, ["2026-01-20"]); // adds one day's current counts
  */
 export function addCurrentTallies(db: Database.Database, spec: LoadSpec, cube: Cube, dates: string[] | null = null): void {
   const add = cubeAdder(cube, spec);
@@ -249,27 +249,4 @@ export function addEntryDeltas(cube: Cube, spec: LoadSpec, entries: readonly Ent
 
 function cubeRange(cube: Cube): [string, string] {
   return [isoDate(cube.firstDay), isoDate(cube.firstDay + cube.days - 1)];
-}
-
-/**
- * Zeroes the given days of a cube (before reloading them); days outside are ignored.
- *
- * @example
- * clearDays(cube, [cube.firstDay]); // the first day's slice is all 0
- */
-export function clearDays(cube: Cube, days: Iterable<number>): void {
-  for (const day of days) {
-    const d = day - cube.firstDay;
-    if (d >= 0 && d < cube.days) cube.data.fill(0, d * cube.width, (d + 1) * cube.width);
-  }
-}
-
-/**
- * ISO dates of day numbers (for the `dates` filters).
- *
- * @example
- * isoDates([20454, 20455]); // ["2026-01-01", "2026-01-02"]
- */
-export function isoDates(days: Iterable<number>): string[] {
-  return [...days].map(isoDate);
 }

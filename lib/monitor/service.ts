@@ -255,8 +255,8 @@ export function forgetKeptResults(): void {
  * cube, then the same scan as scanWindows / scanHistory (plus scanRates) — see those for
  * the statistics. The result is kept in memory: a repeated request with no write to the
  * database in between is answered from it after two pragma reads; when entries arrived,
- * only the days they touch (and the days of entries they supersede) are reloaded and
- * only the windows covering those days retested, then the cheap across-window
+ * their counts are added (minus those of the entries they supersede) and only the
+ * windows covering the days they touch retested, then the cheap across-window
  * adjustment is redone. Settings or master-data changes rebuild.
  *
  * Builds never hold the JavaScript thread for long: they run one comparison at a time in
@@ -534,7 +534,7 @@ interface CountBase {
 }
 
 // Brings a kept result up to the committed entries, in one read transaction (one
-// snapshot for the check and the days reloaded); null when only a rebuild will do.
+// snapshot for the check and the changes added); null when only a rebuild will do.
 function patchNow(s: ServiceState, kept: Kept, base: CountBase | null = null): Kept | null {
   if (kept.run.problem) {
     const ids = maxIds(s.db);
