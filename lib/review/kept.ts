@@ -2,12 +2,18 @@ import { rawDb } from "@/lib/db/client";
 import { connectionStamp, sameStamp, type ConnectionStamp } from "@/lib/monitor/service-version";
 
 /**
- * Page data kept until the database file changes. The review pages read master data,
- * saved comparisons and kept scans that change only when someone writes; reading them
- * through Prisma on every request cost several milliseconds of the server's one thread
- * per page. The check is the scan service's connection stamp (PRAGMA data_version, which
- * moves when any other connection commits, and total_changes(), which moves when this one
- * writes), so a kept value is never older than the last commit a request could have seen.
+ * Page data kept between requests, and what drops it:
+ *  - keptUntilWrite: any commit to the file — the scan service's connection stamp
+ *    (PRAGMA data_version, which moves when any other connection commits, and
+ *    total_changes(), which moves when this one writes), so a kept value is never older
+ *    than the last commit a request could have seen (the weekly review, read from entries);
+ *  - keptUntilRecordsChange: a change to the records pages show besides entries and scans
+ *    (master data, comparisons, flagged-period records: recordsStamp);
+ *  - keptWhileSame: any of the inputs a page was shaped from not being the very same value
+ *    (the kept scan arrays the service hands out, the records stamp, the data date).
+ * Reading master data and comparisons through Prisma and shaping a page cost several
+ * milliseconds of the server's one thread per page; under a steady stream of floor sheets
+ * "until any write" meant every page.
  */
 
 interface Entry<V> {
