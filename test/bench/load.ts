@@ -36,7 +36,7 @@
 import Database from "better-sqlite3";
 import { spawn, type ChildProcess } from "node:child_process";
 import { existsSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
-import { request as httpRequest } from "node:http";
+import { Agent, request as httpRequest } from "node:http";
 import { createRequire } from "node:module";
 import { cpus, freemem, loadavg, tmpdir, totalmem } from "node:os";
 import path from "node:path";
@@ -199,13 +199,39 @@ const slowGet = async (target: string, cookie: string) => {
 
 type Call = { method: string; path: string; headers: Record<string, string>; body?: string };
 
+const keepAlive = new Agent({ keepAlive: true });
+
+/**
+ * One request over a kept-alive node:http connection, light on the load generator's CPU
+ * (it shares the server's two cores): a page's bytes (asked for gzip, as a browser does,
+ * so the server pays for compressing them) are dropped, not decompressed or decoded —
+ * that is the browser's work, on another machine. JSON answers (the POSTs'
+ * acknowledgements) come uncompressed and are read. Rejects after 30 s.
+ */
+function lightRequest(target: string, call: Call): Promise<{ status: number; body: string }> {
+  const isGet = call.method === "GET";
+  return new Promise((resolve, reject) => {
+    const req = httpRequest(target, { method: call.method, headers: call.headers, agent: keepAlive, timeout: 30_000 }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on("data", (c: Buffer) => {
+        if (!isGet) chunks.push(c);
+      });
+      res.on("end", () => resolve({ status: res.statusCode ?? 0, body: isGet ? "" : Buffer.concat(chunks).toString() }));
+      res.on("error", reject);
+    });
+    req.on("timeout", () => req.destroy(new Error("timed out after 30 s")));
+    req.on("error", reject);
+    req.end(call.body);
+  });
+}
+
 /** How a simulated user spaces its requests. */
 type Pacing = { kind: "think"; meanMs: number } | { kind: "rate"; perSecond: number };
 
 const exponential = (meanMs: number) => -Math.log(1 - Math.random()) * meanMs;
 
 /**
- * Users over fetch, one request in flight each, until `seconds` have passed. "think": a
+ * Users over node:http (lightRequest), one request in flight each, until `seconds` have passed. "think": a
  * pause of exponentially distributed length after each answer. "rate": send times form a
  * Poisson process of the given rate, fixed in advance of the answers; a request due while
  * the previous one is still unanswered goes when it is answered, and its latency counts
@@ -233,11 +259,10 @@ async function pacedUsers(
       await sleepUntil(due);
       const call = make();
       try {
-        const r = await fetch(`${base}${call.path}`, { method: call.method, headers: call.headers, body: call.body, signal: AbortSignal.timeout(30_000) });
-        const text = await r.text();
+        const r = await lightRequest(`${base}${call.path}`, call);
         latencies.push(performance.now() - due);
         if (r.status < 200 || r.status > 299) non2xx++;
-        onResponse(r.status, text);
+        onResponse(r.status, r.body);
       } catch {
         errors++;
       }
@@ -442,7 +467,8 @@ try {
         `${pacing === "flat-out" ? "each as fast as answered (autocannon)" : pacing.kind === "think" ? `each pausing ${pacing.meanMs / 1000} s on average after an answer` : `${pacing.perSecond} requests/s per client at random times`}; ` +
         `load average before: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
     );
-    const get = (route: string): Call => ({ method: "GET", path: route, headers: { cookie } });
+    // Pages are asked for gzip, as a browser asks (autocannon and the paced users alike).
+    const get = (route: string): Call => ({ method: "GET", path: route, headers: { cookie, "accept-encoding": "gzip" } });
     const phaseCpu0 = serverCpuSeconds(server.pid!);
     const load = (count: number, call: () => Call, request: CannonRequest, onResponse?: (status: number, body: string) => void) =>
       pacing === "flat-out"
