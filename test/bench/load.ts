@@ -201,6 +201,9 @@ type Call = { method: string; path: string; headers: Record<string, string>; bod
 
 const keepAlive = new Agent({ keepAlive: true });
 
+/** Why paced requests failed (error code or message → count), printed after each phase. */
+const errorReasons = new Map<string, number>();
+
 /**
  * One request over a kept-alive node:http connection, light on the load generator's CPU
  * (it shares the server's two cores): a page's bytes (asked for gzip, as a browser does,
@@ -263,8 +266,10 @@ async function pacedUsers(
         latencies.push(performance.now() - due);
         if (r.status < 200 || r.status > 299) non2xx++;
         onResponse(r.status, r.body);
-      } catch {
+      } catch (error) {
         errors++;
+        const reason = (error as NodeJS.ErrnoException).code ?? (error as Error).message;
+        errorReasons.set(reason, (errorReasons.get(reason) ?? 0) + 1);
       }
       if (pacing.kind === "rate") due += exponential(1000 / pacing.perSecond);
     }
@@ -512,6 +517,10 @@ try {
       `server CPU ${phaseCpu0 !== null && phaseCpu1 !== null ? (phaseCpu1 - phaseCpu0).toFixed(1) : "n/a"} s in ${duration.toFixed(0)} s of wall time; ` +
         `load average after: ${loadavg().map((x) => x.toFixed(1)).join(" ")}`,
     );
+    if (errorReasons.size) {
+      console.log(`client-side errors: ${[...errorReasons].map(([reason, n]) => `${reason} × ${n}`).join(", ")}`);
+      errorReasons.clear();
+    }
     summary.push({ name: phase.name, rps: total / duration, p99: worstP99, errors, cpu: phaseCpu0 !== null && phaseCpu1 !== null ? (phaseCpu1 - phaseCpu0) / duration : null });
   }
   console.log("\nphase                         req/s   worst p99 ms  errors  server CPU per wall s  p99 ≤ 500");
