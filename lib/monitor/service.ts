@@ -5,7 +5,7 @@ import { dayNumber, isoDate } from "./dates";
 import { lowerBound } from "./plan";
 import { liveOutput, liveScanSteps, loadSpecOf, patchLiveScan, UnknownCodeError, type BuildStep, type LiveScan, type ScanOutput } from "./service-build";
 import { readActiveComparisons, readComparison, readMasterData, type MasterData, type SavedComparison } from "./service-settings";
-import { changesSince, connectionStamp, entryCounts, entryCountsFrom, maxIds, sameStamp, type ConnectionStamp, type MaxIds } from "./service-version";
+import { changesSince, connectionStamp, entryCounts, entryCountsFrom, maxIds, sameStamp, type Changes, type ConnectionStamp, type MaxIds } from "./service-version";
 import type { ScanWindow } from "./types";
 import { windowDetailOf, type WindowDetail } from "./window-detail";
 
@@ -527,10 +527,23 @@ function bringUp(s: ServiceState, kept: Kept, look: Look, maxLagMs: number): Kep
   return patchNow(s, kept);
 }
 
-/** Entry counts taken once at the start of a refresh pass (see entryCountsFrom). */
+/**
+ * Taken once at the start of a refresh pass: entry counts (see entryCountsFrom), and the
+ * changes read so far, by the ids they run from and to — the comparisons of a pass mostly
+ * stand at the same ids, and the entries between two ids never change (append-only).
+ */
 interface CountBase {
   ids: MaxIds;
   counts: MaxIds;
+  changes: Map<string, Changes>;
+}
+
+function changesBetween(db: Database.Database, from: MaxIds, to: MaxIds, base: CountBase | null): Changes {
+  if (!base) return changesSince(db, from);
+  const key = `${from.tally}:${from.units}>${to.tally}:${to.units}`;
+  let changes = base.changes.get(key);
+  if (!changes) base.changes.set(key, (changes = changesSince(db, from)));
+  return changes;
 }
 
 // Brings a kept result up to the committed entries, in one read transaction (one
@@ -547,7 +560,7 @@ function patchNow(s: ServiceState, kept: Kept, base: CountBase | null = null): K
     const ids = maxIds(db);
     if (sameIds(ids, kept.ids)) return { ...kept, currentAt: at };
     const counts = base ? entryCountsFrom(db, base) : entryCounts(db);
-    const changes = changesSince(db, kept.ids);
+    const changes = changesBetween(db, kept.ids, ids, base);
     const appendOnly =
       counts.tally - kept.counts.tally === changes.added.tally && counts.units - kept.counts.units === changes.added.units;
     if (!appendOnly) return null;
@@ -588,7 +601,7 @@ async function refreshPass(s: ServiceState): Promise<void> {
     // The connection may have been closed (tests, a restore) without the state being replaced.
     if (s.dead || !s.db.open || holder.linemixMonitor !== s) return;
     // One full count for the pass; each comparison adds the rows above it (cheap).
-    const base = s.db.transaction((): CountBase => ({ ids: maxIds(s.db), counts: entryCounts(s.db) }))();
+    const base = s.db.transaction((): CountBase => ({ ids: maxIds(s.db), counts: entryCounts(s.db), changes: new Map() }))();
     for (const [id, kept] of [...s.byId]) {
       if (s.dead || !s.db.open) return;
       const look = currentLook(s);

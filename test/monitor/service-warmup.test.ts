@@ -238,6 +238,10 @@ describe("refresh policy", () => {
     const run = (await runComparison("shifts", { maxLagMs: 60_000 }))!;
     expect(run.computed).toMatchObject({ how: "patched", pendingEntries: 0 });
     expect(run.windows).toEqual(scanWindows(currentRows(), { ...linesConfig, compare: "shift" }).windows);
+    // The pass read the new entries once for both comparisons (they stood at the same ids): both are right.
+    const lines = (await runComparison("lines", { maxLagMs: 60_000 }))!;
+    expect(lines.computed).toMatchObject({ how: "patched", pendingEntries: 0 });
+    expect(lines.windows).toEqual(scanWindows(currentRows(), linesConfig).windows);
   }, 20_000);
 
   it("a bounded read just past the bound is served as it stands and starts the refresh at once", async () => {
