@@ -1,3 +1,4 @@
+import type Database from "better-sqlite3";
 import { rawDb } from "@/lib/db/client";
 import { connectionStamp, sameStamp, type ConnectionStamp } from "@/lib/monitor/service-version";
 
@@ -56,8 +57,8 @@ export function keptUntilWrite<V>(load: (key: string) => Promise<V>, size = 16, 
  * const comparisons = keptUntilRecordsChange(() => listComparisons(), 1);
  * await comparisons("all"); // the same array after any number of floor sheets
  */
-export function keptUntilRecordsChange<V>(load: (key: string) => Promise<V>, size = 16, keep: (value: V) => boolean = () => true): (key: string) => Promise<V> {
-  return keptWhileStamp(recordsStamp, load, size, keep);
+export function keptUntilRecordsChange<V>(load: (key: string) => Promise<V>, size = 16): (key: string) => Promise<V> {
+  return keptWhileStamp(recordsStamp, load, size, () => true);
 }
 
 function writeStamp(connection: ReturnType<typeof rawDb>): string {
@@ -65,13 +66,14 @@ function writeStamp(connection: ReturnType<typeof rawDb>): string {
   return `${dataVersion}:${totalChanges}`;
 }
 
-const recordsStamps = new WeakMap<ReturnType<typeof rawDb>, { write: ConnectionStamp; records: string }>();
+// Per connection: the stamp read after its last commit, and the statement, prepared once.
+const recordsStamps = new WeakMap<ReturnType<typeof rawDb>, { write: ConnectionStamp; records: string; statement: Database.Statement }>();
 
 /**
  * A stamp of the records besides entries that the review pages show: counts and last ids
  * or change times of master data, saved comparisons, flagged-period records, their notes
  * and snapshots, and the last audit event (every setup change and every workflow step of
- * a record writes one in its transaction, lib/db/master-data.ts, lib/db/audit.ts). Moves
+ * a record writes one in its transaction: lib/db/master-data.ts, lib/db/episodes.ts). Moves
  * on any change to them; not on new entries, sessions or tokens. Read again only when
  * something was committed (the connection stamp moved).
  *
@@ -85,7 +87,8 @@ export function recordsStamp(connection: ReturnType<typeof rawDb> = rawDb()): st
   const write = connectionStamp(connection);
   const last = recordsStamps.get(connection);
   if (last && sameStamp(last.write, write)) return last.records;
-  const row = connection
+  let statement = last?.statement;
+  statement ??= connection
     .prepare(
       `SELECT (SELECT MAX(id) FROM AuditEvent), (SELECT COUNT(*) FROM Line), (SELECT COUNT(*) FROM Shift),
               (SELECT COUNT(*) FROM DefectCategory), (SELECT COUNT(*) FROM Product),
@@ -93,10 +96,9 @@ export function recordsStamp(connection: ReturnType<typeof rawDb> = rawDb()): st
               (SELECT COUNT(*) || '/' || MAX(updatedAt) FROM Episode),
               (SELECT MAX(id) FROM EpisodeNote), (SELECT MAX(id) FROM EpisodeSnapshot)`,
     )
-    .raw()
-    .get() as unknown[];
-  const records = row.map((v) => String(v ?? "")).join("|");
-  recordsStamps.set(connection, { write, records });
+    .raw();
+  const records = (statement.get() as unknown[]).map((v) => String(v ?? "")).join("|");
+  recordsStamps.set(connection, { write, records, statement });
   return records;
 }
 
